@@ -1,0 +1,50 @@
+"""The lookup index: every table of a set keyed by canonical tuple and qualifiers, built once per set."""
+
+from __future__ import annotations
+
+from collections.abc import Iterator, Mapping
+
+from ffaudit.paramset.model import ParameterSet, Entry, TableKey
+from ffaudit.paramset.canonical import canonical_classes
+
+
+def qualifier_variants(
+    bond_order: str | None, in_ring: bool | None
+) -> Iterator[tuple[str | None, bool | None]]:
+    """Qualifier combinations to try, most specific first: (order, ring), (order, any), (any, ring), any."""
+    seen: set[tuple[str | None, bool | None]] = set()
+    for variant in ((bond_order, in_ring), (bond_order, None), (None, in_ring), (None, None)):
+        if variant not in seen:
+            seen.add(variant)
+            yield variant
+
+
+class TableIndex:
+    """Read-only view of a set's tables for the resolution tiers."""
+
+    def __init__(self, pset: ParameterSet) -> None:
+        self.pset = pset
+        self.tables: Mapping[str, Mapping[TableKey, Entry]] = pset.tables
+        self.parents: dict[str, tuple[str, ...]] = {c.id: pset.parent_chain(c.id) for c in pset.classes}
+        self.has_wildcards: dict[str, bool] = {
+            kind: any(e.wildcards for e in table.values()) for kind, table in self.tables.items()
+        }
+
+    def get(
+        self, kind: str, classes: tuple[str, ...], bond_order: str | None, in_ring: bool | None
+    ) -> Entry | None:
+        """The entry for an already-canonical tuple, trying qualifiers from most to least specific."""
+        table = self.tables.get(kind)
+        if not table:
+            return None
+        for order, ring in qualifier_variants(bond_order, in_ring):
+            entry = table.get((classes, order, ring))
+            if entry is not None:
+                return entry
+        return None
+
+    def get_any_order(
+        self, kind: str, classes: tuple[str, ...], bond_order: str | None, in_ring: bool | None
+    ) -> Entry | None:
+        canonical, _ = canonical_classes(kind, classes)
+        return self.get(kind, canonical, bond_order, in_ring)

@@ -1,0 +1,54 @@
+"""Tier ``wildcard``: an entry with ``*`` at positions where the set allows them.
+
+Allowed positions: the two ends of a dihedral, the three outer atoms of an out-of-plane tuple. The most
+specific entry wins (fewest wildcards); among equally specific candidates the one with the smallest
+canonical key wins, which is deterministic; such ties are reported by the lint command.
+"""
+
+from __future__ import annotations
+
+import itertools
+from collections.abc import Iterator
+
+from ffaudit.paramset.canonical import canonical_classes
+from ffaudit.paramset.model import WILDCARD, Entry
+from ffaudit.resolve.index import TableIndex
+from ffaudit.terms import Term
+
+WILDCARD_POSITIONS: dict[str, tuple[int, ...]] = {"dihedral": (0, 3), "out_of_plane": (1, 2, 3)}
+
+
+def wildcard_candidates(kind: str, classes: tuple[str, ...]) -> Iterator[tuple[int, tuple[str, ...]]]:
+    """Yield (number of wildcards, canonical tuple) for every wildcard pattern of ``classes``.
+
+    Ordered by number of wildcards, then by tuple, without duplicates.
+    """
+    positions = WILDCARD_POSITIONS.get(kind, ())
+    seen: set[tuple[str, ...]] = set()
+    for count in range(1, len(positions) + 1):
+        found: list[tuple[str, ...]] = []
+        for chosen in itertools.combinations(positions, count):
+            pattern = tuple(WILDCARD if i in chosen else c for i, c in enumerate(classes))
+            canonical, _ = canonical_classes(kind, pattern)
+            if canonical not in seen:
+                seen.add(canonical)
+                found.append(canonical)
+        for canonical in sorted(found):
+            yield count, canonical
+
+
+def match_wildcard(index: TableIndex, term: Term) -> Entry | None:
+    """Return the most specific wildcard entry matching the term, or None."""
+    if not index.has_wildcards.get(term.kind):
+        return None
+    return match_wildcard_classes(index, term.kind, term.classes, term.bond_order, term.in_ring)
+
+
+def match_wildcard_classes(
+    index: TableIndex, kind: str, classes: tuple[str, ...], bond_order: str | None, in_ring: bool | None
+) -> Entry | None:
+    for _, candidate in wildcard_candidates(kind, classes):
+        entry = index.get(kind, candidate, bond_order, in_ring)
+        if entry is not None:
+            return entry
+    return None
