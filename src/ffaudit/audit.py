@@ -89,7 +89,9 @@ class TierCounts:
         return self if other == 0 else NotImplemented
 
     def total(self, tier: str | None = None) -> int:
-        return sum(n for tiers in self.counts.values() for t, n in tiers.items() if tier in (None, t))
+        return sum(
+            n for tiers in self.counts.values() for t, n in tiers.items() if tier in (None, t)
+        )
 
     def to_dict(self) -> dict[str, dict[str, int]]:
         return {kind: dict(self.counts[kind]) for kind in KINDS if kind in self.counts}
@@ -207,7 +209,11 @@ class AuditContext:
     Picklable, so one context can be shipped to each worker process.
     """
 
-    def __init__(self, pset: ParameterSet, tiers: Iterable[str] = ("wildcard", "parent")) -> None:
+    def __init__(
+        self,
+        pset: ParameterSet,
+        tiers: Iterable[str] = ("wildcard", "parent", "analogy", "estimate"),
+    ) -> None:
         self.pset = pset
         self.rules = ClassRules(pset)
         self.resolver = Resolver(pset, tiers=frozenset(tiers))
@@ -247,11 +253,15 @@ class AuditContext:
         )
 
 
-def decide_status(resolutions: Sequence[Resolution], findings: Sequence[Finding]) -> tuple[str, str | None]:
+def decide_status(
+    resolutions: Sequence[Resolution], findings: Sequence[Finding]
+) -> tuple[str, str | None]:
     """Status and reason from a molecule's resolutions (pure function)."""
     missing = Counter(r.term.kind for r in resolutions if r.tier == "missing")
     if missing:
-        parts = [f"{n} {kind}" for kind, n in sorted(missing.items(), key=lambda kv: KINDS.index(kv[0]))]
+        parts = [
+            f"{n} {kind}" for kind, n in sorted(missing.items(), key=lambda kv: KINDS.index(kv[0]))
+        ]
         reason = f"{sum(missing.values())} terms without a parameter ({', '.join(parts)})"
         unclassified = [f for f in findings if f.code == "unclassified-atom"]
         if unclassified:
@@ -351,7 +361,9 @@ class Summary:
                 }
                 for (kind, classes), n in top
             ],
-            "classes_never_assigned": [c.id for c in self.pset.classes if c.id not in self.assigned],
+            "classes_never_assigned": [
+                c.id for c in self.pset.classes if c.id not in self.assigned
+            ],
             "elements_without_class": dict(sorted(self.elements_without_class.items())),
             "unreadable": self.unreadable,
         }

@@ -35,7 +35,9 @@ class Severity(enum.IntEnum):
         try:
             return cls[text.strip().upper()]
         except KeyError:
-            raise ValueError(f"unknown severity {text!r} (expected error, warning or info)") from None
+            raise ValueError(
+                f"unknown severity {text!r} (expected error, warning or info)"
+            ) from None
 
 
 DocPath = tuple[str | int, ...]
@@ -67,7 +69,15 @@ class Finding:
 
     def identity(self) -> tuple[Any, ...]:
         """A key that stays the same across runs for the same problem (message wording excluded)."""
-        return (self.code, self.path, self.doc_path, self.molecule, self.record, self.atoms, self.term)
+        return (
+            self.code,
+            self.path,
+            self.doc_path,
+            self.molecule,
+            self.record,
+            self.atoms,
+            self.term,
+        )
 
     def sort_key(self) -> tuple[Any, ...]:
         return (
@@ -112,8 +122,22 @@ class Finding:
 
     def to_dict(self) -> dict[str, Any]:
         """Plain-JSON form (None fields omitted)."""
-        out: dict[str, Any] = {"code": self.code, "severity": self.severity.label, "message": self.message}
-        for name in ("path", "line", "column", "molecule", "record", "term", "cause", "hint", "rule"):
+        out: dict[str, Any] = {
+            "code": self.code,
+            "severity": self.severity.label,
+            "message": self.message,
+        }
+        for name in (
+            "path",
+            "line",
+            "column",
+            "molecule",
+            "record",
+            "term",
+            "cause",
+            "hint",
+            "rule",
+        ):
             value = getattr(self, name)
             if value is not None:
                 out[name] = value

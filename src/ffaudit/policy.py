@@ -28,7 +28,9 @@ def gate(
     an unknown ``fail_on``.
     """
     if fail_on not in FAIL_ON:
-        raise ValueError(f"unknown --fail-on value {fail_on!r} (expected one of {', '.join(FAIL_ON)})")
+        raise ValueError(
+            f"unknown --fail-on value {fail_on!r} (expected one of {', '.join(FAIL_ON)})"
+        )
     failing: list[str] = []
     if fail_on in ("missing", "estimated"):
         failing += ["incomplete", "unreadable"]
@@ -39,5 +41,7 @@ def gate(
         detail = ", ".join(f"{n} {s}" for s, n in bad.items())
         return Verdict(False, f"{sum(bad.values())} records fail --fail-on {fail_on} ({detail}).")
     if min_score is not None and lowest_score is not None and lowest_score < min_score:
-        return Verdict(False, f"lowest molecule score {lowest_score:g} is below --min-score {min_score:g}.")
+        return Verdict(
+            False, f"lowest molecule score {lowest_score:g} is below --min-score {min_score:g}."
+        )
     return Verdict(True, "all records meet the policy.")

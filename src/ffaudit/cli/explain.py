@@ -64,15 +64,20 @@ def _render(audit: MoleculeAudit, context: AuditContext, stdout: TextIO) -> None
     pset = context.pset
     console = Console(file=stdout, width=120, color_system=None, highlight=False, soft_wrap=False)
     console.print(f"{audit.record.name}  ({audit.smiles or 'unreadable'})")
-    console.print(f"parameter set {pset.header.name} {pset.header.version}; status: {audit.status}"
-                  + (f" - {audit.reason}" if audit.reason else ""))
+    console.print(
+        f"parameter set {pset.header.name} {pset.header.version}; status: {audit.status}"
+        + (f" - {audit.reason}" if audit.reason else "")
+    )
     if audit.status == "unreadable":
         return
     elements = audit.elements
     atoms = Table("atom", "element", "class", "rule", "rule location", title="Atoms")
     for a in audit.assignments:
         atoms.add_row(
-            str(a.atom), elements[a.atom], a.class_id or "-", a.rule or "no rule matches",
+            str(a.atom),
+            elements[a.atom],
+            a.class_id or "-",
+            a.rule or "no rule matches",
             str(a.location) if a.location else "",
         )
     console.print(atoms)
@@ -85,8 +90,13 @@ def _render(audit: MoleculeAudit, context: AuditContext, stdout: TextIO) -> None
         else:
             values, source = "", r.reason or ""
         terms.add_row(
-            r.term.kind, "-".join(map(str, r.term.atoms)), "-".join(r.term.classes), r.tier,
-            f"{r.score:.2f}", values, source,
+            r.term.kind,
+            "-".join(map(str, r.term.atoms)),
+            "-".join(r.term.classes),
+            r.tier,
+            f"{r.score:.2f}",
+            values,
+            source,
         )
     console.print(terms)
     for note in cautions_for(pset):

@@ -12,7 +12,9 @@ from ffaudit.errors import UsageError
 
 
 def add_parser(sub: Any) -> None:
-    p = sub.add_parser("init-set", help="write the default parameter set to PATH as a starting point")
+    p = sub.add_parser(
+        "init-set", help="write the default parameter set to PATH as a starting point"
+    )
     p.add_argument("path", metavar="PATH")
     p.add_argument("--from", dest="name", default="generic-organic", help="embedded set to copy")
     p.add_argument("--force", action="store_true", help="overwrite an existing file")
@@ -26,5 +28,8 @@ def run(args: argparse.Namespace, stdout: TextIO, stderr: TextIO) -> int:
     if target.exists() and not args.force:
         raise UsageError(f"{target} exists; use --force to overwrite it")
     shutil.copyfile(embedded_set_path(args.name), target)
-    print(f"wrote {target} (a copy of the embedded set {args.name!r}; rename it in its header)", file=stderr)
+    print(
+        f"wrote {target} (a copy of the embedded set {args.name!r}; rename it in its header)",
+        file=stderr,
+    )
     return exitcodes.OK

@@ -114,6 +114,12 @@ class EnvClass:
     """Classes declared interchangeable with this one for analogy estimates."""
     estimated: bool = False
     """True for a class proposed by an estimate (emitted fragment), not reviewed by a person."""
+    hybridisation: str | None = None
+    """Optional descriptor (``sp``, ``sp2``, ``sp3``, ``none``) used by the analogy tier."""
+    aromatic: bool | None = None
+    """Optional descriptor used by the analogy tier."""
+    charge: int | None = None
+    """Optional descriptor (formal charge) used by the analogy tier."""
 
 
 @dataclass(frozen=True)

@@ -54,7 +54,11 @@ class ClassRules:
         rules: list[_Rule] = []
         for cls in pset.classes:
             for number, smarts in enumerate(cls.smarts, start=1):
-                loc = cls.smarts_locations[number - 1] if number - 1 < len(cls.smarts_locations) else None
+                loc = (
+                    cls.smarts_locations[number - 1]
+                    if number - 1 < len(cls.smarts_locations)
+                    else None
+                )
                 rules.append(_Rule(cls.id, number, smarts, loc or cls.location))
         self._rules = tuple(rules)
         self._by_element: dict[str, list[str]] = {}

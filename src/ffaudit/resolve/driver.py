@@ -13,6 +13,7 @@ from typing import Any
 
 from ffaudit.paramset.canonical import UNASSIGNED
 from ffaudit.paramset.model import Entry, ParameterSet
+from ffaudit.resolve.analogy import AnalogyFinder
 from ffaudit.resolve.exact import match_exact
 from ffaudit.resolve.index import TableIndex
 from ffaudit.resolve.parent import match_parent
@@ -56,10 +57,11 @@ class Resolver:
         self,
         pset: ParameterSet,
         score_model: ScoreModel = DEFAULT_SCORE_MODEL,
-        tiers: frozenset[str] = frozenset({"wildcard", "parent"}),
+        tiers: frozenset[str] = frozenset({"wildcard", "parent", "analogy"}),
     ) -> None:
         self.pset = pset
         self.index = TableIndex(pset)
+        self.analogy = AnalogyFinder(self.index)
         self.score_model = score_model
         self.tiers = tiers
         self._cache: dict[tuple[Any, ...], _Outcome] = {}
@@ -91,7 +93,11 @@ class Resolver:
             unassigned = [i for i, c in enumerate(term.classes) if c == UNASSIGNED]
             atoms = ", ".join(str(term.atoms[i]) for i in unassigned)
             return _Outcome(
-                "missing", None, 0.0, f"atom {atoms} has no class (no class rule matches)", "no-class"
+                "missing",
+                None,
+                0.0,
+                f"atom {atoms} has no class (no class rule matches)",
+                "no-class",
             )
         entry = match_exact(self.index, term)
         if entry is not None:
@@ -105,6 +111,16 @@ class Resolver:
             if found is not None:
                 entry, subs, steps = found
                 return _Outcome("parent", entry, sm.score("parent", steps), substitutions=subs)
+        if "analogy" in self.tiers:
+            match = self.analogy.find(term)
+            if match is not None:
+                return _Outcome(
+                    "analogy",
+                    match.entry,
+                    sm.score("analogy", len(match.substitutions)),
+                    substitutions=match.substitutions,
+                    cause=f"copied from {'-'.join(match.entry.classes)} (similarity cost {match.cost:g})",
+                )
         if not self.index.tables.get(term.kind):
             reason = f"the set has no {term.kind} parameters at all"
         else:

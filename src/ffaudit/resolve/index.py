@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from collections.abc import Iterator, Mapping
 
-from ffaudit.paramset.model import ParameterSet, Entry, TableKey
 from ffaudit.paramset.canonical import canonical_classes
+from ffaudit.paramset.model import Entry, ParameterSet, TableKey
 
 
 def qualifier_variants(
@@ -25,7 +25,9 @@ class TableIndex:
     def __init__(self, pset: ParameterSet) -> None:
         self.pset = pset
         self.tables: Mapping[str, Mapping[TableKey, Entry]] = pset.tables
-        self.parents: dict[str, tuple[str, ...]] = {c.id: pset.parent_chain(c.id) for c in pset.classes}
+        self.parents: dict[str, tuple[str, ...]] = {
+            c.id: pset.parent_chain(c.id) for c in pset.classes
+        }
         self.has_wildcards: dict[str, bool] = {
             kind: any(e.wildcards for e in table.values()) for kind, table in self.tables.items()
         }

@@ -21,7 +21,9 @@ Substitution = tuple[int, str, str]
 MAX_STEPS = 8
 
 
-def match_parent(index: TableIndex, term: Term) -> tuple[Entry, tuple[Substitution, ...], int] | None:
+def match_parent(
+    index: TableIndex, term: Term
+) -> tuple[Entry, tuple[Substitution, ...], int] | None:
     """Return (entry, substitutions, steps) for the least generalised parent tuple that has an entry."""
     chains = [(c,) + index.parents.get(c, ()) for c in term.classes]
     if all(len(chain) == 1 for chain in chains):
@@ -37,7 +39,9 @@ def match_parent(index: TableIndex, term: Term) -> tuple[Entry, tuple[Substituti
         canonical, _ = canonical_classes(term.kind, classes)
         entry = index.get(term.kind, canonical, term.bond_order, term.in_ring)
         if entry is None:
-            entry = match_wildcard_classes(index, term.kind, canonical, term.bond_order, term.in_ring)
+            entry = match_wildcard_classes(
+                index, term.kind, canonical, term.bond_order, term.in_ring
+            )
         if entry is not None:
             subs = tuple(
                 (i, chain[0], chain[level])

@@ -18,7 +18,9 @@ from ffaudit.terms import Term
 WILDCARD_POSITIONS: dict[str, tuple[int, ...]] = {"dihedral": (0, 3), "out_of_plane": (1, 2, 3)}
 
 
-def wildcard_candidates(kind: str, classes: tuple[str, ...]) -> Iterator[tuple[int, tuple[str, ...]]]:
+def wildcard_candidates(
+    kind: str, classes: tuple[str, ...]
+) -> Iterator[tuple[int, tuple[str, ...]]]:
     """Yield (number of wildcards, canonical tuple) for every wildcard pattern of ``classes``.
 
     Ordered by number of wildcards, then by tuple, without duplicates.
@@ -45,7 +47,11 @@ def match_wildcard(index: TableIndex, term: Term) -> Entry | None:
 
 
 def match_wildcard_classes(
-    index: TableIndex, kind: str, classes: tuple[str, ...], bond_order: str | None, in_ring: bool | None
+    index: TableIndex,
+    kind: str,
+    classes: tuple[str, ...],
+    bond_order: str | None,
+    in_ring: bool | None,
 ) -> Entry | None:
     for _, candidate in wildcard_candidates(kind, classes):
         entry = index.get(kind, candidate, bond_order, in_ring)
