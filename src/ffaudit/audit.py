@@ -23,10 +23,13 @@ from typing import Any
 from rdkit import Chem
 
 from ffaudit.findings import Finding
+from ffaudit.paramset.canonical import UNASSIGNED
 from ffaudit.paramset.model import KINDS, Entry, ParameterSet
 from ffaudit.perceive.classes import Assignment, ClassRules
+from ffaudit.perceive.propose import ProposedClass, propose_class
 from ffaudit.read.record import Record
 from ffaudit.resolve.driver import Resolution, Resolver
+from ffaudit.resolve.estimate import MoleculeTypes
 from ffaudit.score import RESOLVED_FROM_SET, TIERS
 from ffaudit.terms import Term, enumerate_terms
 
@@ -110,6 +113,7 @@ class MoleculeAudit:
     findings: tuple[Finding, ...] = ()
     fragments: int = 0
     elements: tuple[str, ...] = ()
+    proposed: tuple[ProposedClass, ...] = ()
 
     @property
     def counts(self) -> TierCounts:
@@ -146,6 +150,8 @@ class MoleculeAudit:
             "counts": self.counts.to_dict(),
             "findings": [f.to_dict() for f in self.findings],
         }
+        if self.proposed:
+            out["proposed_classes"] = [p.to_dict() for p in self.proposed]
         if rec.meta:
             out["meta"] = dict(rec.meta)
         if terms != "none":
@@ -166,6 +172,7 @@ def _term_ref(term: Term) -> dict[str, Any]:
 def provenance(entry: Entry, pset: ParameterSet) -> dict[str, Any]:
     """Where an entry's value came from: file and line, source key and its citation."""
     prov: dict[str, Any] = {
+        "set": f"{pset.header.name} {pset.header.version}",
         "file": entry.location.path,
         "line": entry.location.line,
         "entry": list(entry.classes),
@@ -190,7 +197,12 @@ def resolution_dict(r: Resolution, pset: ParameterSet) -> dict[str, Any]:
     if r.entry is not None:
         out["form"] = r.entry.form
         out["values"] = entry_values(r.entry)
-        out["provenance"] = provenance(r.entry, pset)
+        if r.tier == "estimate":
+            out["provenance"] = {"estimated": True, **r.details}
+        elif r.tier == "analogy":
+            out["provenance"] = {"estimated": True, "donor": provenance(r.entry, pset)}
+        else:
+            out["provenance"] = provenance(r.entry, pset)
     else:
         out["form"] = None
         out["values"] = {}
@@ -238,7 +250,21 @@ class AuditContext:
         assignments, findings = self.rules.perceive(molh)
         class_ids = [a.class_id for a in assignments]
         terms = enumerate_terms(molh, class_ids, self.pset.header, self.kinds)
-        resolutions = tuple(self.resolver.resolve(t) for t in terms)
+        types = MoleculeTypes(molh) if "estimate" in self.resolver.tiers else None
+        resolutions = tuple(self.resolver.resolve(t, types) for t in terms)
+        proposed = tuple(
+            propose_class(molh, f.atoms[0]) for f in findings if f.code == "unclassified-atom"
+        )
+        if proposed:
+            by_atom = {p.atom: p for p in proposed}
+            findings = [
+                f.with_(
+                    hint=f"{f.hint}; proposed class {by_atom[f.atoms[0]].id}: {by_atom[f.atoms[0]].smarts}"
+                )
+                if f.code == "unclassified-atom"
+                else f
+                for f in findings
+            ]
         status, reason = decide_status(resolutions, findings)
         return MoleculeAudit(
             record=record,
@@ -250,6 +276,7 @@ class AuditContext:
             findings=tuple(findings),
             fragments=len(Chem.GetMolFrags(molh)),
             elements=tuple(a.GetSymbol() for a in molh.GetAtoms()),
+            proposed=proposed,
         )
 
 
@@ -304,7 +331,7 @@ class Summary:
         seen: set[tuple[str, tuple[str, ...]]] = set()
         for r in audit.resolutions:
             if r.tier == "missing":
-                key = (r.term.kind, r.term.classes)
+                key = (r.term.kind, _named_classes(r.term, audit.elements))
                 self.missing_terms[key] += 1
                 seen.add(key)
         for key in seen:
@@ -349,7 +376,7 @@ class Summary:
             "terms": self.counts.to_dict(),
             "score": {
                 "min": min(scores) if scores else None,
-                "median": statistics.median(scores) if scores else None,
+                "median": _round(statistics.median(scores)) if scores else None,
                 "histogram": histogram,
             },
             "top_missing": [
@@ -367,6 +394,14 @@ class Summary:
             "elements_without_class": dict(sorted(self.elements_without_class.items())),
             "unreadable": self.unreadable,
         }
+
+
+def _named_classes(term: Term, elements: Sequence[str]) -> tuple[str, ...]:
+    """The term's classes with each unassigned ``?`` followed by the atom's element (``?P``)."""
+    return tuple(
+        f"{UNASSIGNED}{elements[atom]}" if c == UNASSIGNED else c
+        for c, atom in zip(term.classes, term.atoms, strict=True)
+    )
 
 
 def parameter_set_info(pset: ParameterSet) -> dict[str, Any]:

@@ -9,8 +9,8 @@ Formula (constants are data, :class:`ScoreModel`, so calibration can replace the
     score = base[tier] * decay[tier] ** (n - 1)      n = size of the generalisation, n >= 1
 
 where n is the number of wildcards used (wildcard tier), the number of parent steps (parent tier), the number
-of class substitutions (analogy tier) or 1 (estimate tier, whose base may be given per rule). ``exact`` is
-always 1 and ``missing`` always 0. A molecule's score is the minimum over its terms.
+of class substitutions (analogy tier) or 1 + the number of the term's atoms without a class (estimate
+tier, whose base may be given per rule). ``exact`` is always 1 and ``missing`` always 0. A molecule's score is the minimum over its terms.
 """
 
 from __future__ import annotations
@@ -38,7 +38,7 @@ class ScoreModel:
         }
     )
     decay: Mapping[str, float] = field(
-        default_factory=lambda: {"wildcard": 0.95, "parent": 0.9, "analogy": 0.85, "estimate": 1.0}
+        default_factory=lambda: {"wildcard": 0.95, "parent": 0.9, "analogy": 0.85, "estimate": 0.75}
     )
     rule_base: Mapping[str, float] = field(default_factory=dict)
     """Optional per-rule base for the estimate tier (rule id -> base)."""

@@ -120,6 +120,8 @@ class EnvClass:
     """Optional descriptor used by the analogy tier."""
     charge: int | None = None
     """Optional descriptor (formal charge) used by the analogy tier."""
+    source: str | None = None
+    """Optional source key for the class definition."""
 
 
 @dataclass(frozen=True)

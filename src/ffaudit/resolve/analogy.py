@@ -129,7 +129,9 @@ class AnalogyFinder:
 
 
 def _orientations(kind: str, classes: tuple[str, ...]) -> tuple[tuple[str, ...], ...]:
-    if kind in ("bond", "charge_increment", "angle", "stretch_bend", "dihedral"):
+    # Charge increments and stretch-bends are not symmetric under reversal (sign, k_ab/k_cb): a donor is
+    # only read forwards so its values can be copied as they are.
+    if kind in ("bond", "angle", "dihedral"):
         rev = classes[::-1]
         return (classes,) if rev == classes else (classes, rev)
     if kind == "out_of_plane":

@@ -1,8 +1,10 @@
 """The resolution driver: tries the tiers in order and stamps what it found on a :class:`Resolution`.
 
 Tiers (each a small function in its own module returning a match or None): ``exact``, ``wildcard``,
-``parent``; what none of them resolves is ``missing`` with a reason. Each distinct (kind, classes,
-qualifiers) is resolved once per :class:`Resolver` and cached, so a library resolves each tuple once.
+``parent``, ``analogy`` (all from the set; resolved once per distinct (kind, classes, qualifiers) and
+cached, so a library resolves each tuple once), then ``estimate`` (a published rule applied to the term's
+atoms in this molecule, so computed per term); what none of them resolves is ``missing`` with a reason.
+Terms touching an atom without a class skip the set tiers and can only be estimated.
 """
 
 from __future__ import annotations
@@ -12,8 +14,9 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from ffaudit.paramset.canonical import UNASSIGNED
-from ffaudit.paramset.model import Entry, ParameterSet
+from ffaudit.paramset.model import Entry, FourierTerm, ParameterSet, SourceLocation
 from ffaudit.resolve.analogy import AnalogyFinder
+from ffaudit.resolve.estimate import MoleculeTypes, estimate_term
 from ffaudit.resolve.exact import match_exact
 from ffaudit.resolve.index import TableIndex
 from ffaudit.resolve.parent import match_parent
@@ -71,12 +74,15 @@ class Resolver:
         state["_cache"] = {}
         return state
 
-    def resolve(self, term: Term) -> Resolution:
+    def resolve(self, term: Term, types: MoleculeTypes | None = None) -> Resolution:
+        """Resolve one term; ``types`` (the molecule's UFF typing) enables the estimate tier."""
         key = (term.kind, term.classes, term.bond_order, term.in_ring)
         outcome = self._cache.get(key)
         if outcome is None:
             outcome = self._resolve(term)
             self._cache[key] = outcome
+        if outcome.tier == "missing" and types is not None and "estimate" in self.tiers:
+            return self._estimate(term, types, outcome)
         return Resolution(
             term=term,
             tier=outcome.tier,
@@ -85,6 +91,35 @@ class Resolver:
             reason=outcome.reason,
             cause=outcome.cause,
             substitutions=outcome.substitutions,
+        )
+
+    def _estimate(self, term: Term, types: MoleculeTypes, missing: _Outcome) -> Resolution:
+        estimate, why = estimate_term(term, types)
+        if estimate is None:
+            reason = f"{missing.reason}; no estimate: {why}"
+            return Resolution(term, "missing", None, 0.0, reason, missing.cause)
+        unassigned = sum(1 for c in term.classes if c == UNASSIGNED)
+        entry = Entry(
+            kind=term.kind,
+            classes=term.classes,
+            form=estimate.form,
+            values=dict(estimate.values),
+            location=SourceLocation("<estimate>", 0),
+            source=estimate.rule,
+            bond_order=term.bond_order if term.kind in ("bond", "dihedral") else None,
+            fourier=tuple(FourierTerm(n, phase, k) for n, phase, k in estimate.fourier),
+            estimated=True,
+        )
+        details = {
+            "rule": estimate.rule,
+            "citation": estimate.citation,
+            "inputs": dict(estimate.inputs),
+        }
+        if estimate.cross_checks:
+            details["cross_checks"] = dict(estimate.cross_checks)
+        score = self.score_model.score("estimate", 1 + unassigned, rule=estimate.rule)
+        return Resolution(
+            term, "estimate", entry, score, missing.reason, missing.cause, details=details
         )
 
     def _resolve(self, term: Term) -> _Outcome:

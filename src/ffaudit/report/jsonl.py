@@ -1,0 +1,38 @@
+"""``--format jsonl``: one JSON object per molecule per line, in input order; nothing else.
+
+Each line is one molecule dict exactly as the driver built it (key order kept, floats as given: the driver
+rounds them), valid against ``schemas/audit-molecule.schema.json``. The run information and the summary are
+not written: a JSONL stream holds molecules only, so that ``cat``, ``grep`` and line-by-line readers work.
+"""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Mapping
+from typing import Any, TextIO
+
+
+def dump_compact(obj: Any) -> str:
+    """One-line JSON text of ``obj``: no spaces, non-ASCII kept as is, NaN and infinities refused.
+
+    Raises ``ValueError`` for a NaN or infinite float and ``TypeError`` for a value JSON cannot hold.
+    """
+    return json.dumps(obj, ensure_ascii=False, separators=(",", ":"), allow_nan=False)
+
+
+class JsonlReporter:
+    """Writes each molecule as it comes; holds nothing."""
+
+    def __init__(self, out: TextIO) -> None:
+        self.out = out
+
+    def start(self, run: Mapping[str, Any]) -> None:
+        """Nothing to write: the JSONL stream carries molecules only."""
+
+    def add(self, molecule: Mapping[str, Any]) -> None:
+        """Write ``molecule`` as one line. Raises ``ValueError`` / ``TypeError`` as :func:`dump_compact`."""
+        self.out.write(dump_compact(molecule) + "\n")
+
+    def finish(self, summary: Mapping[str, Any]) -> None:
+        """Flush the stream; the summary is not part of the JSONL output."""
+        self.out.flush()
