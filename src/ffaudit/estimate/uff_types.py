@@ -1,0 +1,135 @@
+"""Assign a UFF atom type (Rappé et al., J. Am. Chem. Soc. 114, 10024 (1992)) to an RDKit atom.
+
+The UFF paper names types by element, hybridisation (1, 2, 3, R for resonant) and, for some elements, a
+formal oxidation state. It does not say how to perceive them from a connection table, so this module uses
+RDKit's perception and states each choice in the returned reason:
+
+- hybridisation is RDKit's ``Atom.GetHybridization()`` (so amide, aniline and ester-type N/O are sp2, since
+  RDKit marks their lone pair as conjugated);
+- an sp2 C, N, O or S is *resonant* (``_R``) when it is aromatic or has a bond RDKit marks conjugated.
+  The paper reserves ``_R`` for aromatic and resonance-stabilised atoms (its example is the amide); treating
+  every conjugated sp2 atom as resonant is broader and is the convention RDKit's UFF follows, which the
+  tests compare against;
+- P and S oxidation states come from the total valence (P: 3 or 5; S: 2, 4 or 6), Se must be divalent;
+- halogens and hydrogen have one type each (the bridging-H type ``H_b`` is never assigned).
+
+Nothing here raises for chemistry it cannot type: :func:`assign_uff_type` returns ``label=None`` and says
+why (element not in the table, hybridisation with no UFF type, unexpected valence).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from rdkit import Chem
+
+from ffaudit.estimate.uff_table import UFF_TYPES
+
+_HYB = Chem.rdchem.HybridizationType
+
+AMIDE_BOND_ORDER = 1.41
+"""UFF's bond order for the C-N bond of an amide (Rappé et al. 1992, section on bond orders; value quoted
+from memory of the paper [M]). RDKit's UFF does not apply it (it uses 1.0), so the RDKit comparison in the
+tests uses :func:`bond_order` with ``amide_rule=False``."""
+
+_AMIDE_CN = Chem.MolFromSmarts("[NX3]-[CX3]=[OX1]")
+
+
+@dataclass(frozen=True)
+class UffTyping:
+    """The result of typing one atom: ``label`` (None when no UFF type applies) and why."""
+
+    label: str | None
+    reason: str
+
+
+def _resonant_or_2(atom: Chem.Atom, symbol: str) -> UffTyping:
+    if atom.GetIsAromatic():
+        return UffTyping(f"{symbol}_R", "sp2 and aromatic: resonant type")
+    if any(b.GetIsConjugated() for b in atom.GetBonds()):
+        return UffTyping(
+            f"{symbol}_R",
+            "sp2 with a conjugated bond: assumed resonant (_R), as RDKit's UFF does; "
+            "the UFF paper reserves _R for aromatic/resonance-stabilised atoms",
+        )
+    return UffTyping(f"{symbol}_2", "sp2, not aromatic, no conjugated bond")
+
+
+def assign_uff_type(atom: Chem.Atom) -> UffTyping:
+    """Return the UFF type of ``atom`` (an atom of a sanitised RDKit molecule) and the reason.
+
+    Never raises for unusual chemistry: an atom with no type in :data:`UFF_TYPES` gets ``label=None``
+    and a reason naming the element, hybridisation or valence that has no type.
+    """
+    symbol = atom.GetSymbol()
+    hyb = atom.GetHybridization()
+    valence = atom.GetTotalValence()
+    if symbol == "H":
+        return UffTyping("H_", "hydrogen: H_ (bridging-hydrogen type H_b is never assigned)")
+    if symbol in ("F", "I"):
+        return UffTyping(f"{symbol}_", "halogen: one type per element")
+    if symbol in ("Cl", "Br"):
+        return UffTyping(symbol, "halogen: one type per element")
+    if symbol == "Si":
+        reason = "silicon: Si3 is UFF's only Si type"
+        if hyb != _HYB.SP3:
+            reason += f" (RDKit hybridisation {hyb!s}; tetrahedral type assumed)"
+        return UffTyping("Si3", reason)
+    if symbol == "P":
+        if valence in (3, 5):
+            return UffTyping(f"P_3+{valence}", f"phosphorus with total valence {valence}")
+        return UffTyping(
+            None, f"phosphorus with total valence {valence}: UFF has P_3+3 and P_3+5 only"
+        )
+    if symbol == "Se":
+        if hyb == _HYB.SP3 and valence == 2:
+            return UffTyping("Se3+2", "divalent sp3 selenium")
+        return UffTyping(
+            None, f"selenium with hybridisation {hyb!s} and valence {valence}: only Se3+2 exists"
+        )
+    if symbol == "S":
+        if hyb == _HYB.SP2:
+            return _resonant_or_2(atom, "S")
+        if hyb == _HYB.SP3 and valence in (2, 4, 6):
+            return UffTyping(f"S_3+{valence}", f"sp3 sulfur with total valence {valence}")
+        return UffTyping(
+            None, f"sulfur with hybridisation {hyb!s} and valence {valence}: no UFF type"
+        )
+    if symbol == "B":
+        if hyb == _HYB.SP3:
+            return UffTyping("B_3", "sp3 boron")
+        if hyb == _HYB.SP2:
+            return UffTyping("B_2", "sp2 boron")
+        return UffTyping(None, f"boron with hybridisation {hyb!s}: UFF has B_3 and B_2 only")
+    if symbol in ("C", "N", "O"):
+        if hyb == _HYB.SP3:
+            return UffTyping(f"{symbol}_3", "sp3")
+        if hyb == _HYB.SP2:
+            return _resonant_or_2(atom, symbol)
+        if hyb == _HYB.SP:
+            return UffTyping(f"{symbol}_1", "sp (linear)")
+        return UffTyping(None, f"{symbol} with hybridisation {hyb!s}: no UFF type")
+    return UffTyping(None, f"element {symbol} is not in ffaudit's UFF table")
+
+
+def bond_order(bond: Chem.Bond, amide_rule: bool = False) -> float:
+    """The UFF bond order of ``bond``: RDKit's ``GetBondTypeAsDouble()`` (1, 1.5 aromatic, 2, 3).
+
+    With ``amide_rule=True`` the C-N single bond of an amide gets :data:`AMIDE_BOND_ORDER` (1.41), as the
+    UFF paper prescribes. Raises ``ValueError`` for bonds with no order (dative, zero, unspecified).
+    """
+    order = bond.GetBondTypeAsDouble()
+    if order <= 0.0:
+        raise ValueError(f"bond {bond.GetIdx()} has no bond order ({bond.GetBondType()!s})")
+    if amide_rule and bond.GetBondType() == Chem.BondType.SINGLE:
+        mol = bond.GetOwningMol()
+        pair = {bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()}
+        for match in mol.GetSubstructMatches(_AMIDE_CN):
+            if set(match[:2]) == pair:
+                return AMIDE_BOND_ORDER
+    return order
+
+
+def known_label(label: str | None) -> bool:
+    """True when ``label`` is a type of :data:`ffaudit.estimate.uff_table.UFF_TYPES`."""
+    return label is not None and label in UFF_TYPES
