@@ -22,7 +22,7 @@ from typing import Any
 
 from rdkit import Chem
 
-from ffaudit.findings import Finding
+from ffaudit.findings import Finding, Severity
 from ffaudit.paramset.canonical import UNASSIGNED
 from ffaudit.paramset.model import KINDS, Entry, ParameterSet
 from ffaudit.perceive.classes import Assignment, ClassRules
@@ -264,6 +264,22 @@ class AuditContext:
                 if f.code == "unclassified-atom"
                 else f
                 for f in findings
+            ]
+        unreviewed = sum(
+            1
+            for r in resolutions
+            if r.entry is not None and r.entry.estimated and r.tier in RESOLVED_FROM_SET
+        )
+        if unreviewed:
+            findings = [
+                *findings,
+                Finding(
+                    code="estimated-entry",
+                    severity=Severity.WARNING,
+                    message=f"{unreviewed} terms use entries the set marks as estimated (not reviewed)",
+                    cause="estimated-entry",
+                    hint="review the entries marked 'estimated: true' before production simulations",
+                ),
             ]
         status, reason = decide_status(resolutions, findings)
         return MoleculeAudit(

@@ -1,6 +1,7 @@
 """``ffaudit`` command line: parse arguments -> ``run(args, stdout, stderr)`` -> exit code -> ``main``.
 
-Each command is a module of this package with ``add_parser(subparsers)`` and ``run(args, stdout, stderr)``.
+Each command is a module of this package with ``add_parser(subparsers)`` (which sets ``run`` as the parser's
+default); modules are found by scanning the package, so adding a command is adding a module.
 Reports go to stdout, diagnostics to stderr. Every :class:`ffaudit.errors.FfauditError` is printed as one
 message (no traceback) with exit code 2.
 """
@@ -17,7 +18,22 @@ from ffaudit import __version__
 from ffaudit.cli import exitcodes
 from ffaudit.errors import FfauditError
 
-COMMANDS: tuple[str, ...] = ("audit", "explain", "init_set")
+ORDER: tuple[str, ...] = ("audit", "explain", "lint", "compare", "worklist", "report", "init_set")
+"""Help order of the commands; any other command module found in this package comes after them."""
+
+
+def command_modules() -> list[str]:
+    """Names of the modules of this package that define a command (they have ``add_parser``)."""
+    import pkgutil
+
+    import ffaudit.cli as package
+
+    found = []
+    for info in pkgutil.iter_modules(package.__path__):
+        module = importlib.import_module(f"ffaudit.cli.{info.name}")
+        if hasattr(module, "add_parser"):
+            found.append(info.name)
+    return sorted(found, key=lambda n: (ORDER.index(n) if n in ORDER else len(ORDER), n))
 
 
 class _Parser(argparse.ArgumentParser):
@@ -37,7 +53,7 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"ffaudit {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     sub.required = True
-    for name in COMMANDS:
+    for name in command_modules():
         module = importlib.import_module(f"ffaudit.cli.{name}")
         module.add_parser(sub)
     return parser

@@ -184,10 +184,12 @@ def _inversion(
     element = centre.GetSymbol()
     if element not in ("C", "N", "O"):
         return None, f"uff-inversion covers planar C, N, O centres in ffaudit, not {element}"
+    # UFF's K = 50 applies to a carbon bonded to an sp2 oxygen (a carbonyl, but also a conjugated O such as
+    # a phenol's, which RDKit perceives as sp2); judged on RDKit's hybridisation, as RDKit's UFF does [C].
     carbonyl = element == "C" and any(
-        b.GetBondType() == Chem.BondType.DOUBLE and b.GetOtherAtom(centre).GetSymbol() == "O"
-        for b in centre.GetBonds()
+        n.GetSymbol() == "O" and n.GetHybridization() == Chem.HybridizationType.SP2
+        for n in centre.GetNeighbors()
     )
-    inputs["carbonyl_carbon"] = carbonyl
+    inputs["bound_to_sp2_oxygen"] = carbonyl
     k = uff.inversion_k_centre(element, carbonyl)
     return Estimate("harmonic", {"k": k, "chi0": 0.0}, "uff-inversion", UFF_CITATION, inputs), None
