@@ -281,6 +281,7 @@ class AuditContext:
                     hint="review the entries marked 'estimated: true' before production simulations",
                 ),
             ]
+        findings = [f.with_(molecule=record.name, record=record.record) for f in findings]
         status, reason = decide_status(resolutions, findings)
         return MoleculeAudit(
             record=record,

@@ -58,11 +58,14 @@ def run(args: argparse.Namespace, stdout: TextIO, stderr: TextIO) -> int:
 
 
 def _render(audit: MoleculeAudit, context: AuditContext, stdout: TextIO) -> None:
+    from rich import box
     from rich.console import Console
     from rich.table import Table
 
     pset = context.pset
-    console = Console(file=stdout, width=120, color_system=None, highlight=False, soft_wrap=False)
+    console = Console(
+        file=stdout, width=120, color_system=None, highlight=False, soft_wrap=False, markup=False
+    )
     console.print(f"{audit.record.name}  ({audit.smiles or 'unreadable'})")
     console.print(
         f"parameter set {pset.header.name} {pset.header.version}; status: {audit.status}"
@@ -71,7 +74,9 @@ def _render(audit: MoleculeAudit, context: AuditContext, stdout: TextIO) -> None
     if audit.status == "unreadable":
         return
     elements = audit.elements
-    atoms = Table("atom", "element", "class", "rule", "rule location", title="Atoms")
+    atoms = Table(
+        "atom", "element", "class", "rule", "rule location", title="Atoms", box=box.SIMPLE
+    )
     for a in audit.assignments:
         atoms.add_row(
             str(a.atom),
@@ -81,12 +86,35 @@ def _render(audit: MoleculeAudit, context: AuditContext, stdout: TextIO) -> None
             str(a.location) if a.location else "",
         )
     console.print(atoms)
-    terms = Table("kind", "atoms", "classes", "tier", "score", "values", "source", title="Terms")
+    terms = Table(
+        "kind",
+        "atoms",
+        "classes",
+        "tier",
+        "score",
+        "values",
+        "source",
+        title="Terms",
+        box=box.SIMPLE,
+    )
+    citations: dict[str, str] = {}
     for r in audit.resolutions:
         if r.entry is not None:
             values = json.dumps(entry_values(r.entry), separators=(",", ":"))
             where = f"{r.entry.location.path}:{r.entry.location.line}"
-            source = f"{r.entry.source or '-'} @ {where}"
+            if r.tier == "estimate":
+                assumed = ", ".join(r.details.get("inputs", {}).get("uff_types", []))
+                source = f"ESTIMATE {r.details.get('rule')} [{assumed}]"
+                citations[str(r.details.get("rule"))] = str(r.details.get("citation"))
+            elif r.tier == "analogy":
+                subs = ", ".join(f"{old}->{new}" for _, old, new in r.substitutions)
+                source = f"ESTIMATE by analogy ({subs}) from {'-'.join(r.entry.classes)} @ {where}"
+            else:
+                source = f"{r.entry.source or '-'} @ {where}"
+                if r.substitutions:
+                    source += " via " + ", ".join(
+                        f"{old}->{new}" for _, old, new in r.substitutions
+                    )
         else:
             values, source = "", r.reason or ""
         terms.add_row(
@@ -99,5 +127,9 @@ def _render(audit: MoleculeAudit, context: AuditContext, stdout: TextIO) -> None
             source,
         )
     console.print(terms)
+    for rule, citation in sorted(citations.items()):
+        console.print(f"rule {rule}: {citation}")
+    for finding in audit.findings:
+        console.print(f"finding: {finding.format()}")
     for note in cautions_for(pset):
         console.print(f"caution: {note}")
