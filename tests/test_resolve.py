@@ -1,8 +1,8 @@
 """Resolution tiers on hand-built parameter sets (no loader involved)."""
 
 from ffaudit.paramset.model import (
-    EnvClass,
     Entry,
+    EnvClass,
     FourierTerm,
     Header,
     ParameterSet,
@@ -29,13 +29,26 @@ def _set(entries, classes=None):
 
 
 def _bond(a, b, order=None, ring=None, line=1):
-    return Entry("bond", (a, b), "harmonic", {"k": 600.0, "r0": 1.5}, SourceLocation("hand.yaml", line),
-                 bond_order=order, in_ring=ring)
+    return Entry(
+        "bond",
+        (a, b),
+        "harmonic",
+        {"k": 600.0, "r0": 1.5},
+        SourceLocation("hand.yaml", line),
+        bond_order=order,
+        in_ring=ring,
+    )
 
 
 def _dihedral(classes, line):
-    return Entry("dihedral", classes, "fourier", {}, SourceLocation("hand.yaml", line),
-                 fourier=(FourierTerm(3, 0.0, 0.15),))
+    return Entry(
+        "dihedral",
+        classes,
+        "fourier",
+        {},
+        SourceLocation("hand.yaml", line),
+        fourier=(FourierTerm(3, 0.0, 0.15),),
+    )
 
 
 def test_exact_match_and_qualifier_specificity():
@@ -48,11 +61,13 @@ def test_exact_match_and_qualifier_specificity():
 
 
 def test_wildcard_most_specific_wins_and_ties_are_deterministic():
-    pset = _set([
-        _dihedral(("*", "c4", "c4", "*"), 1),
-        _dihedral(("*", "c4", "c4", "h"), 2),
-        _dihedral(("*", "c4", "c4", "o"), 3),
-    ])
+    pset = _set(
+        [
+            _dihedral(("*", "c4", "c4", "*"), 1),
+            _dihedral(("*", "c4", "c4", "h"), 2),
+            _dihedral(("*", "c4", "c4", "o"), 3),
+        ]
+    )
     r = Resolver(pset).resolve(Term("dihedral", (0, 1, 2, 3), ("h", "c4", "c4", "o")))
     assert r.tier == "wildcard"
     # one wildcard beats two; between the two one-wildcard candidates the smaller canonical key wins:
@@ -75,7 +90,9 @@ def test_parent_chain_fallback_names_substitutions():
 
 def test_parent_tier_can_be_switched_off():
     pset = _set([_bond("c", "h")])
-    r = Resolver(pset, tiers=frozenset()).resolve(Term("bond", (0, 1), ("c4", "h"), "single", False))
+    r = Resolver(pset, tiers=frozenset()).resolve(
+        Term("bond", (0, 1), ("c4", "h"), "single", False)
+    )
     assert r.tier == "missing" and r.cause == "no-parameter"
 
 

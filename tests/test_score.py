@@ -11,7 +11,10 @@ def test_exact_is_one_and_missing_is_zero():
 
 
 def test_tiers_are_ordered_for_equal_size():
-    scores = [DEFAULT_SCORE_MODEL.score(t, 1) for t in ("exact", "wildcard", "parent", "analogy", "estimate")]
+    scores = [
+        DEFAULT_SCORE_MODEL.score(t, 1)
+        for t in ("exact", "wildcard", "parent", "analogy", "estimate")
+    ]
     assert scores == sorted(scores, reverse=True)
     assert all(0.0 < s <= 1.0 for s in scores)
 
