@@ -104,3 +104,12 @@ def test_missing_and_unclassified():
     assert r.tier == "missing" and r.cause == "no-class" and "3" in r.reason
     r = Resolver(pset).resolve(Term("angle", (0, 1, 2), ("h", "c", "h")))
     assert r.tier == "missing" and "no angle parameters at all" in r.reason
+
+
+def test_no_class_reason_names_each_terms_own_atoms():
+    # A cached outcome must not carry the atom indices of the first term that produced it.
+    pset = _set([_bond("c", "h")])
+    resolver = Resolver(pset, tiers=frozenset())
+    first = resolver.resolve(Term("nonbonded", (6,), ("?",)))
+    second = resolver.resolve(Term("nonbonded", (1,), ("?",)))
+    assert "atom 6" in first.reason and "atom 1" in second.reason

@@ -80,7 +80,8 @@ class Resolver:
         outcome = self._cache.get(key)
         if outcome is None:
             outcome = self._resolve(term)
-            self._cache[key] = outcome
+            if UNASSIGNED not in term.classes:  # the no-class reason names this term's atoms
+                self._cache[key] = outcome
         if outcome.tier == "missing" and types is not None and "estimate" in self.tiers:
             return self._estimate(term, types, outcome)
         return Resolution(

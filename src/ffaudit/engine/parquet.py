@@ -1,0 +1,146 @@
+"""Molecule dicts as a Parquet table with one fixed schema (needs the ``parquet`` extra, pyarrow).
+
+One row per molecule. Every chunk file of an output directory has the same schema, so the chunks read as one
+dataset: ``pyarrow.dataset.dataset(sorted(glob.glob("DIR/chunk-*.parquet")), format="parquet")``. Scalar fields are columns; ``counts`` is a
+map kind -> tier -> number; ``terms`` a list of structs with the fields every term has, its ``values`` and
+``provenance`` as JSON text (their keys depend on the functional form). Whatever a molecule dict holds beyond
+the schema goes, as JSON text, into ``extra_json``, so nothing of the JSONL output is lost. Values are those
+of the JSONL output (internal units: angstrom, degree, kcal/mol; see ``schemas/audit-molecule.schema.json``).
+"""
+
+from __future__ import annotations
+
+import io
+import json
+from collections.abc import Mapping, Sequence
+from typing import Any
+
+try:
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    HAVE_PYARROW = True
+except ImportError:  # the parquet extra is not installed; callers check HAVE_PYARROW
+    HAVE_PYARROW = False
+
+_SCALARS: tuple[tuple[str, str], ...] = (
+    ("index", "int64"),
+    ("name", "string"),
+    ("smiles", "string"),
+    ("status", "string"),
+    ("reason", "string"),
+    ("score", "float64"),
+    ("atoms", "int64"),
+    ("fragments", "int64"),
+)
+_TERM_FIELDS = (
+    "kind",
+    "atoms",
+    "classes",
+    "tier",
+    "score",
+    "form",
+    "values",
+    "provenance",
+    "reason",
+)
+_KNOWN = {name for name, _ in _SCALARS} | {
+    "source",
+    "atom_classes",
+    "counts",
+    "terms",
+    "findings",
+    "score_term",
+    "meta",
+}
+
+
+def _dumps(value: Any) -> str | None:
+    if value is None:
+        return None
+    return json.dumps(value, ensure_ascii=False, separators=(",", ":"), sort_keys=True)
+
+
+def schema() -> pa.Schema:
+    """The Parquet schema of a molecule table. Raises ``ImportError`` without pyarrow."""
+    if not HAVE_PYARROW:
+        raise ImportError("writing Parquet needs pyarrow: pip install 'ffaudit[parquet]'")
+    term = pa.struct(
+        [
+            ("kind", pa.string()),
+            ("atoms", pa.list_(pa.int32())),
+            ("classes", pa.list_(pa.string())),
+            ("tier", pa.string()),
+            ("score", pa.float64()),
+            ("form", pa.string()),
+            ("values_json", pa.string()),
+            ("provenance_json", pa.string()),
+            ("reason", pa.string()),
+            ("extra_json", pa.string()),
+        ]
+    )
+    fields = [
+        pa.field("index", pa.int64(), nullable=False),
+        pa.field("source_path", pa.string()),
+        pa.field("source_record", pa.int64()),
+        pa.field("source_line", pa.int64()),
+    ]
+    fields += [pa.field(name, getattr(pa, kind)()) for name, kind in _SCALARS if name != "index"]
+    fields += [
+        pa.field("atom_classes", pa.list_(pa.string())),
+        pa.field("counts", pa.map_(pa.string(), pa.map_(pa.string(), pa.int64()))),
+        pa.field("score_term_json", pa.string()),
+        pa.field("findings_json", pa.string()),
+        pa.field("meta_json", pa.string()),
+        pa.field("terms", pa.list_(term)),
+        pa.field("extra_json", pa.string()),
+    ]
+    return pa.schema(fields)
+
+
+def _term_row(term: Mapping[str, Any]) -> dict[str, Any]:
+    extra = {k: v for k, v in term.items() if k not in _TERM_FIELDS}
+    return {
+        "kind": term.get("kind"),
+        "atoms": list(term.get("atoms") or ()),
+        "classes": list(term.get("classes") or ()),
+        "tier": term.get("tier"),
+        "score": term.get("score"),
+        "form": term.get("form"),
+        "values_json": _dumps(term.get("values")),
+        "provenance_json": _dumps(term.get("provenance")),
+        "reason": term.get("reason"),
+        "extra_json": _dumps(extra) if extra else None,
+    }
+
+
+def _row(molecule: Mapping[str, Any]) -> dict[str, Any]:
+    source = molecule.get("source") or {}
+    row: dict[str, Any] = {name: molecule.get(name) for name, _ in _SCALARS}
+    extra = {k: v for k, v in molecule.items() if k not in _KNOWN}
+    row.update(
+        source_path=source.get("path"),
+        source_record=source.get("record"),
+        source_line=source.get("line"),
+        atom_classes=list(molecule.get("atom_classes") or ()),
+        counts=dict(molecule.get("counts") or {}),
+        score_term_json=_dumps(molecule.get("score_term")),
+        findings_json=_dumps(molecule.get("findings") or []),
+        meta_json=_dumps(molecule.get("meta")),
+        terms=[_term_row(t) for t in molecule.get("terms") or ()],
+        extra_json=_dumps(extra) if extra else None,
+    )
+    return row
+
+
+def molecules_to_table(molecules: Sequence[Mapping[str, Any]]) -> pa.Table:
+    """The molecules as a table of :func:`schema`. Raises ``ImportError`` without pyarrow."""
+    return pa.Table.from_pylist([_row(m) for m in molecules], schema=schema())
+
+
+def molecules_to_parquet(molecules: Sequence[Mapping[str, Any]]) -> bytes:
+    """The molecules as the bytes of one Parquet file (zstd-compressed; the same input gives the same
+    bytes). Raises ``ImportError`` without pyarrow."""
+    sink = io.BytesIO()
+    pq.write_table(molecules_to_table(molecules), sink, compression="zstd")
+    return sink.getvalue()
