@@ -127,3 +127,43 @@ def test_init_set_writes_a_loadable_copy(tmp_path):
     assert _run("init-set", str(target))[0] == 0
     assert load_parameter_set(target).header.name == "generic-organic"
     assert _run("init-set", str(target))[0] == 2  # refuses to overwrite
+
+
+def test_emit_params_round_trip_and_tier_switches(tmp_path):
+    fragment = tmp_path / "estimates.yaml"
+    code, out, err = _run(
+        "audit",
+        SAMPLE_SMI,
+        "--format",
+        "jsonl",
+        "--fail-on",
+        "never",
+        "--emit-params",
+        str(fragment),
+    )
+    assert code == 0 and fragment.exists() and "review" in err
+    before = [json.loads(x) for x in out.splitlines()]
+    code, out, _ = _run(
+        "audit",
+        SAMPLE_SMI,
+        "--format",
+        "jsonl",
+        "--fail-on",
+        "never",
+        "--params",
+        "generic-organic",
+        "--params",
+        str(fragment),
+    )
+    after = [json.loads(x) for x in out.splitlines()]
+    assert sum(m["status"] == "estimated" for m in before) > 0
+    assert sum(m["status"] == "estimated" for m in after) == 0
+    for m in after:
+        assert not any(t["tier"] in ("analogy", "estimate") for t in m["terms"])
+    # with both estimate tiers off, nothing is estimated: what they covered is missing instead
+    code, out, _ = _run("audit", SAMPLE_SMI, "--format", "jsonl", "--no-analogy", "--no-estimate")
+    off = [json.loads(x) for x in out.splitlines()]
+    assert code == 1 and not any(m["status"] == "estimated" for m in off)
+    assert sum(m["status"] == "incomplete" for m in off) > sum(
+        m["status"] == "incomplete" for m in before
+    )

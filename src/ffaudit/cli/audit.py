@@ -105,6 +105,24 @@ def add_parser(sub: Any) -> None:
     p.add_argument(
         "--min-score", type=float, metavar="X", help="exit 1 when a molecule scores below X"
     )
+    estimates = p.add_argument_group("estimates")
+    estimates.add_argument(
+        "--no-analogy",
+        action="store_true",
+        help="do not copy values from similar parameterised tuples (the analogy tier)",
+    )
+    estimates.add_argument(
+        "--no-estimate",
+        action="store_true",
+        help="do not estimate values from published rules (the UFF estimate tier)",
+    )
+    estimates.add_argument(
+        "--emit-params",
+        metavar="FILE.yaml",
+        help="write every estimated value (analogy or rule) and the proposed classes as a parameter-set "
+        "fragment for review; --params BASE --params FILE.yaml then uses them (flagged as estimated "
+        "entries). The fragment is made in a separate pass in this process",
+    )
     engine = p.add_argument_group("engine")
     engine.add_argument(
         "-j",
@@ -193,7 +211,12 @@ def run(args: argparse.Namespace, stdout: TextIO, stderr: TextIO) -> int:
     options: dict[str, Any] = reader_options(args)
     input_format = resolve_format(args.library, args.input_format)
     pset = load_params(args)
-    context = AuditContext(pset)
+    tiers = ["wildcard", "parent"]
+    tiers += [] if args.no_analogy else ["analogy"]
+    tiers += [] if args.no_estimate else ["estimate"]
+    context = AuditContext(pset, tiers=tiers)
+    if args.emit_params:
+        _emit_params(args, context, options, stderr)
     backend, n_jobs = _engine(args)
     plan = plan_library(args.library, args.input_format, chunk_size=args.chunk_size, **options)
     head, rest = _peek(plan)
@@ -247,6 +270,27 @@ def run(args: argparse.Namespace, stdout: TextIO, stderr: TextIO) -> int:
         print(f"ffaudit: {verdict.message}", file=stderr)
         return exitcodes.POLICY_FAILED
     return exitcodes.OK
+
+
+def _emit_params(
+    args: argparse.Namespace, context: AuditContext, options: dict[str, Any], stderr: TextIO
+) -> None:
+    from ffaudit.emit import FragmentBuilder
+    from ffaudit.read.open import iter_records
+    from ffaudit.report.base import open_output
+
+    if args.library == "-":
+        raise UsageError("--emit-params needs a library file (it reads the library twice)")
+    builder = FragmentBuilder(context.pset)
+    for record in iter_records(args.library, args.input_format, **options):
+        builder.add(context.audit_record(record))
+    with open_output(args.emit_params) as out:
+        out.write(builder.document())
+    print(
+        f"ffaudit: wrote {len(builder.entries)} estimated entries and {len(builder.classes)} proposed "
+        f"classes to {args.emit_params}; review them before use",
+        file=stderr,
+    )
 
 
 def _run_report(
