@@ -190,19 +190,43 @@ def provenance(entry: Entry, pset: ParameterSet) -> dict[str, Any]:
     return prov
 
 
+_ENTRY_CACHE: dict[tuple[int, int, str], tuple[Entry, ParameterSet, dict[str, Any], dict[str, Any]]] = {}
+_ENTRY_CACHE_LIMIT = 100_000
+
+
+def _cached_entry_dicts(
+    entry: Entry, pset: ParameterSet, tier: str
+) -> tuple[dict[str, Any], dict[str, Any]]:
+    """Values and provenance of a set entry, serialised once per (entry, set, tier).
+
+    The cache keeps the entry and set alive with their ids, so an id is never reused while cached.
+    Callers copy nothing: the returned dicts are shared and must not be mutated.
+    """
+    key = (id(entry), id(pset), tier)
+    hit = _ENTRY_CACHE.get(key)
+    if hit is not None and hit[0] is entry and hit[1] is pset:
+        return hit[2], hit[3]
+    values = entry_values(entry)
+    prov = provenance(entry, pset)
+    if tier == "analogy":
+        prov = {"estimated": True, "donor": prov}
+    if len(_ENTRY_CACHE) >= _ENTRY_CACHE_LIMIT:
+        _ENTRY_CACHE.clear()
+    _ENTRY_CACHE[key] = (entry, pset, values, prov)
+    return values, prov
+
+
 def resolution_dict(r: Resolution, pset: ParameterSet) -> dict[str, Any]:
     out = _term_ref(r.term)
     out["tier"] = r.tier
     out["score"] = r.score
-    if r.entry is not None:
+    if r.entry is not None and r.tier != "estimate":
+        out["form"] = r.entry.form
+        out["values"], out["provenance"] = _cached_entry_dicts(r.entry, pset, r.tier)
+    elif r.entry is not None:  # a rule estimate: values and inputs belong to this term alone
         out["form"] = r.entry.form
         out["values"] = entry_values(r.entry)
-        if r.tier == "estimate":
-            out["provenance"] = {"estimated": True, **r.details}
-        elif r.tier == "analogy":
-            out["provenance"] = {"estimated": True, "donor": provenance(r.entry, pset)}
-        else:
-            out["provenance"] = provenance(r.entry, pset)
+        out["provenance"] = {"estimated": True, **r.details}
     else:
         out["form"] = None
         out["values"] = {}
