@@ -86,5 +86,7 @@ class LintContext:
         doc_path = tuple(entry.doc_path) + ((field_name,) if field_name else ())
         finding = self.finding(rule, message, doc_path, **kwargs)
         if entry.location.path != self.path:
-            finding = finding.with_(path=entry.location.path, line=entry.location.line, column=entry.location.column)
+            finding = finding.with_(
+                path=entry.location.path, line=entry.location.line, column=entry.location.column
+            )
         return finding
