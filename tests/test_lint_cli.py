@@ -87,3 +87,12 @@ def test_junit_has_one_case_per_rule():
     failed = [c for c in cases if c.find("failure") is not None]
     assert [c.get("name") for c in failed] == ["load-error"]
     assert suite.get("failures") == "1"
+
+
+def test_docs_list_the_same_rules_as_the_registry():
+    import importlib.util
+
+    spec = importlib.util.spec_from_file_location("make_lint_docs", ROOT / "tools" / "make_lint_docs.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    assert (ROOT / "docs" / "lint-rules.md").read_text() == module.render(), "run tools/make_lint_docs.py"
