@@ -167,3 +167,20 @@ def test_emit_params_round_trip_and_tier_switches(tmp_path):
     assert sum(m["status"] == "incomplete" for m in off) > sum(
         m["status"] == "incomplete" for m in before
     )
+
+
+def test_core_commands_work_without_the_optional_extras():
+    # `pip install ffaudit` (no html/dask/parquet extra) must still give a working command line.
+    import subprocess
+    import sys
+
+    code = (
+        "import sys\n"
+        "for name in ('jinja2', 'markupsafe', 'matplotlib', 'distributed', 'dask', 'pyarrow'):\n"
+        "    sys.modules[name] = None\n"
+        "from ffaudit.cli.main import main\n"
+        f"sys.exit(main(['audit', {SAMPLE_SMI!r}, '--format', 'csv', '--fail-on', 'never', '--jobs', '1']))\n"
+    )
+    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
+    assert proc.returncode == 0, proc.stderr
+    assert proc.stdout.count("\n") == _records(SAMPLE_SMI) + 1

@@ -12,6 +12,7 @@ from typing import Any, TextIO
 
 from ffaudit.cli import exitcodes
 from ffaudit.cli.common import add_params_option, add_reader_options, load_params, reader_options
+from ffaudit.errors import UsageError
 
 
 def _count(text: str) -> int:
@@ -25,7 +26,7 @@ def _count(text: str) -> int:
 
 
 def add_parser(sub: Any) -> None:
-    from ffaudit.report.html import DEFAULT_MAX_DETAIL, DEFAULT_MAX_ROWS
+    from ffaudit.report.limits import DEFAULT_MAX_DETAIL, DEFAULT_MAX_ROWS
 
     p = sub.add_parser(
         "report",
@@ -35,9 +36,15 @@ def add_parser(sub: Any) -> None:
         "atoms and bonds of missing and estimated terms marked, and their terms with tier, source and "
         "score. RESULTS is the output of 'ffaudit audit --format jsonl' (or json) or an output directory.",
     )
-    p.add_argument("results", metavar="RESULTS", help="JSONL or JSON results file, or output directory")
     p.add_argument(
-        "-o", "--output", metavar="FILE", default="-", help="the HTML file to write (default: stdout)"
+        "results", metavar="RESULTS", help="JSONL or JSON results file, or output directory"
+    )
+    p.add_argument(
+        "-o",
+        "--output",
+        metavar="FILE",
+        default="-",
+        help="the HTML file to write (default: stdout)",
     )
     add_params_option(p)
     p.add_argument(
@@ -68,7 +75,13 @@ def add_parser(sub: Any) -> None:
 
 def run(args: argparse.Namespace, stdout: TextIO, stderr: TextIO) -> int:
     from ffaudit.report.base import open_output
-    from ffaudit.report.html import ReportOptions, build_report, render
+
+    try:
+        from ffaudit.report.html import ReportOptions, build_report, render
+    except ImportError as exc:
+        raise UsageError(
+            f"the HTML report needs the html extra (pip install 'ffaudit[html]'): {exc}"
+        ) from None
     from ffaudit.report.results import open_results
 
     results = open_results(args.results)

@@ -90,7 +90,7 @@ class CurveBuilder:
                 users[t].append(m)
         needing = [len(u) for u in users]
         completes = [0] * len(keys)
-        for m, needs in enumerate(self._needs):
+        for needs in self._needs:
             if len(needs) == 1:
                 completes[needs[0]] += 1
         taken = [False] * len(keys)

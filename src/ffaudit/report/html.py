@@ -47,13 +47,12 @@ from ffaudit import __version__
 from ffaudit.paramset.model import KINDS, ParameterSet
 from ffaudit.report import depict, plots
 from ffaudit.report.gap_curve import CurveBuilder, CurveStep, curve_percentages
+from ffaudit.report.limits import DEFAULT_MAX_DETAIL, DEFAULT_MAX_ROWS
 from ffaudit.report.numbering import Numbered, from_record, from_smiles, read_records
 from ffaudit.report.percent import display_percent
 from ffaudit.report.results import STATUSES, Results
 from ffaudit.score import TIERS
 
-DEFAULT_MAX_DETAIL = 1000
-DEFAULT_MAX_ROWS = 10000
 GAP_STATUSES: frozenset[str] = frozenset({"estimated", "incomplete"})
 """Statuses of the molecules "with gaps", which get a detail section."""
 FALLBACK_TIERS: frozenset[str] = frozenset({"wildcard", "parent"})
@@ -405,7 +404,9 @@ def identify_set(
         pset = given
         if pset is None:
             loaded = _try_load([str(p) for p in info.get("paths") or ()])
-            pset = loaded if loaded is not None and loaded.content_hash == info.get("hash") else None
+            pset = (
+                loaded if loaded is not None and loaded.content_hash == info.get("hash") else None
+            )
         return SetIdentity(label, bool(info.get("demonstration")), pset)
     if given is not None:
         name = f"{given.header.name} {given.header.version}"
@@ -421,7 +422,9 @@ def identify_set(
     if len(seen) == 1 and len(files) == 1:
         loaded = _try_load(files)
         if loaded is not None and f"{loaded.header.name} {loaded.header.version}" == seen[0]:
-            label = f"{seen[0]} (sha256 {loaded.content_hash[:12]}, {files[0]}, named by the results)"
+            label = (
+                f"{seen[0]} (sha256 {loaded.content_hash[:12]}, {files[0]}, named by the results)"
+            )
             return SetIdentity(label, loaded.header.demonstration, loaded)
     label = ", ".join(seen) if seen else "not named in the results"
     notice = (
@@ -514,7 +517,9 @@ def _fallback_groups(terms: Sequence[Mapping[str, Any]]) -> tuple[FallbackGroup,
     out = []
     for (kind, tier, source), classes in groups.items():
         distinct = sorted(set(classes))
-        shown = ", ".join(distinct[:FALLBACK_EXAMPLES]) + (", ..." if len(distinct) > FALLBACK_EXAMPLES else "")
+        shown = ", ".join(distinct[:FALLBACK_EXAMPLES]) + (
+            ", ..." if len(distinct) > FALLBACK_EXAMPLES else ""
+        )
         out.append(FallbackGroup(kind, tier, source, len(classes), shown))
     return tuple(out)
 
@@ -645,11 +650,20 @@ def _details(
 def _summary(collector: _Collector) -> SummaryView:
     records = collector.records
     statuses = tuple(
-        StatusRow(s, collector.status.get(s, 0), display_percent(collector.status.get(s, 0), records), STATUS_MEANINGS[s])
+        StatusRow(
+            s,
+            collector.status.get(s, 0),
+            display_percent(collector.status.get(s, 0), records),
+            STATUS_MEANINGS[s],
+        )
         for s in STATUSES
     )
     kinds = tuple(
-        KindRow(k, tuple(collector.terms[k].get(t, 0) for t in TIERS), sum(collector.terms[k].get(t, 0) for t in TIERS))
+        KindRow(
+            k,
+            tuple(collector.terms[k].get(t, 0) for t in TIERS),
+            sum(collector.terms[k].get(t, 0) for t in TIERS),
+        )
         for k in KINDS
         if k in collector.terms and sum(collector.terms[k].get(t, 0) for t in TIERS) > 0
     )
@@ -726,7 +740,9 @@ def _score_plot(scores: Sequence[float]) -> PlotView | None:
     counts = [0] * 10
     for s in scores:
         counts[min(9, max(0, int(s * 10)))] += 1
-    svg = plots.histogram("scores", edges, counts, "molecule score (lowest term score)", "molecules")
+    svg = plots.histogram(
+        "scores", edges, counts, "molecule score (lowest term score)", "molecules"
+    )
     return PlotView(
         "Score histogram",
         plots.data_uri(svg),
@@ -759,7 +775,13 @@ def _curve(
         "curve", ys, "class tuples parameterised (greedy order)", "percent of records covered"
     )
     rows = tuple(
-        WorklistRow(i, s.key[0], "-".join(s.key[1]), s.molecules_needing, display_percent(s.covered, records))
+        WorklistRow(
+            i,
+            s.key[0],
+            "-".join(s.key[1]),
+            s.molecules_needing,
+            display_percent(s.covered, records),
+        )
         for i, s in enumerate(steps[:WORKLIST_ROWS], start=1)
     )
     if len(steps) > WORKLIST_ROWS:
