@@ -42,7 +42,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from rdkit import Chem
-from rdkit.Chem import AllChem
+from rdkit.Chem import rdDistGeom
 
 from ffaudit.audit import AuditContext, MoleculeAudit
 from ffaudit.read.record import Record
@@ -165,7 +165,9 @@ def fragment_for_tuple(
     """
     key = item.key
     if not is_fixable(key):
-        return FragmentFailure(item.rank, key, "an atom of the tuple has no class; it needs a class rule first")
+        return FragmentFailure(
+            item.rank, key, "an atom of the tuple has no class; it needs a class rule first"
+        )
     refs = list(item.candidates if sources is None else sources)
     trials: list[_Trial] = []
     seen_smiles: set[str] = set()
@@ -179,9 +181,9 @@ def fragment_for_tuple(
             continue
         for term in _occurrences(audit, molh, key):
             found += 1
-            trial = capped_fragment(molh, term, audit, context)
-            if isinstance(trial, tuple):
-                mol, atoms, cap, caps, shells, tier = trial
+            cut = capped_fragment(molh, term, audit, context)
+            if isinstance(cut, tuple):
+                mol, atoms, cap, caps, shells, tier = cut
                 trials.append(_Trial(mol, atoms, cap, caps, shells, tier, ref, term.atoms, order))
     if not found:
         return FragmentFailure(
@@ -208,7 +210,9 @@ def fragment_for_tuple(
         )
     if trials:
         return FragmentFailure(item.rank, key, "ETKDG could not embed any of the fragments in 3D")
-    return FragmentFailure(item.rank, key, f"no fragment of the {found} occurrences kept the tuple's classes")
+    return FragmentFailure(
+        item.rank, key, f"no fragment of the {found} occurrences kept the tuple's classes"
+    )
 
 
 def fragments_for_worklist(
@@ -254,12 +258,13 @@ def capped_fragment(
 def embed(mol: Chem.Mol) -> Chem.Mol | None:
     """A copy of ``mol`` with one ETKDG (v3) conformer, seed :data:`EMBED_SEED`; None when embedding fails."""
     out = Chem.Mol(mol)
-    params = AllChem.ETKDGv3()
-    params.randomSeed = EMBED_SEED
-    params.numThreads = 1
-    if AllChem.EmbedMolecule(out, params) != 0:
-        params.useRandomCoords = True
-        if AllChem.EmbedMolecule(out, params) != 0:
+    params = rdDistGeom.ETKDGv3()
+    # RDKit's bundled stubs type these properties wrongly, hence the ignores.
+    params.randomSeed = EMBED_SEED  # type: ignore[assignment]
+    params.numThreads = 1  # type: ignore[assignment]
+    if rdDistGeom.EmbedMolecule(out, params) != 0:
+        params.useRandomCoords = True  # type: ignore[assignment]
+        if rdDistGeom.EmbedMolecule(out, params) != 0:
             return None
     return out
 
@@ -333,7 +338,9 @@ def write_fragments(
     try:
         os.makedirs(directory, exist_ok=True)
     except OSError as exc:
-        raise UsageError(f"cannot create fragment directory {os.fspath(directory)}: {exc.strerror or exc}") from exc
+        raise UsageError(
+            f"cannot create fragment directory {os.fspath(directory)}: {exc.strerror or exc}"
+        ) from exc
     lines = [fragment_record(r) for r in results]
     for result, line in zip(results, lines, strict=True):
         if not isinstance(result, Fragment):
@@ -366,14 +373,18 @@ def _stamp(mol: Chem.Mol, fragment: Fragment) -> None:
     mol.SetProp("ffaudit_atoms", " ".join(map(str, fragment.atoms)))
     if fragment.scan is not None:
         mol.SetProp("ffaudit_scan_dihedral", " ".join(map(str, fragment.scan)))
-    mol.SetProp("ffaudit_atom_indices", "0-based indices of this record's atoms, hydrogens included")
+    mol.SetProp(
+        "ffaudit_atom_indices", "0-based indices of this record's atoms, hydrogens included"
+    )
     mol.SetProp("ffaudit_caps", f"{fragment.caps} {fragment.cap}")
     mol.SetProp("ffaudit_tier", fragment.tier)
     mol.SetProp("ffaudit_source", f"{fragment.source.name} (record index {fragment.source.index})")
     mol.SetProp("ffaudit_conformer", f"RDKit ETKDGv3, seed {EMBED_SEED}, not optimised")
 
 
-def _reaudit(ref: MoleculeRef, context: AuditContext) -> tuple[MoleculeAudit | None, Chem.Mol | None]:
+def _reaudit(
+    ref: MoleculeRef, context: AuditContext
+) -> tuple[MoleculeAudit | None, Chem.Mol | None]:
     from ffaudit.read.smiles import parse_smiles
 
     mol, _error = parse_smiles(ref.smiles or "")
@@ -500,7 +511,7 @@ def _build(
         atom.SetNoImplicit(True)
     try:
         Chem.SanitizeMol(mol)
-    except Exception:  # RDKit raises several types (valence, kekulisation); any of them: not this cut
+    except Exception:  # noqa: BLE001 - RDKit raises several types (valence, kekulisation)
         return None
     Chem.AssignStereochemistry(mol, cleanIt=True, force=True)
     mapping = {

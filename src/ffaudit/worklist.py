@@ -60,7 +60,9 @@ FORMAT_VERSION = 1
 ORDERED_KINDS: frozenset[str] = frozenset({"bond", "dihedral", "charge_increment"})
 """Kinds whose terms carry a bond order (of the bond, or of a dihedral's central bond)."""
 
-ESTIMATED_TIERS: tuple[str, ...] = tuple(t for t in TIERS if t not in RESOLVED_FROM_SET and t != "missing")
+ESTIMATED_TIERS: tuple[str, ...] = tuple(
+    t for t in TIERS if t not in RESOLVED_FROM_SET and t != "missing"
+)
 """Tiers whose value is an estimate, not a parameter of the set (analogy, estimate)."""
 
 DEFAULT_CANDIDATES = 8
@@ -369,7 +371,11 @@ class WorklistBuilder:
         self._gap_atoms: Counter[str] = Counter()
         self._gap_molecules: Counter[str] = Counter()
         self._gap_has_class: dict[str, bool] = {}
-        self._agg_terms: dict[str, Counter[str]] = {"kind": Counter(), "element": Counter(), "class": Counter()}
+        self._agg_terms: dict[str, Counter[str]] = {
+            "kind": Counter(),
+            "element": Counter(),
+            "class": Counter(),
+        }
         self._agg_molecules: dict[str, Counter[str]] = {
             "kind": Counter(),
             "element": Counter(),
@@ -426,10 +432,16 @@ class WorklistBuilder:
         """Rank the tuples and return the worklist."""
         keys = [s.key for s in self._stats]
         fixable = [is_fixable(k) for k in keys]
-        greedy = _greedy(self._blocked, [s.molecules for s in self._stats], keys, fixable, self.complete)
+        greedy = _greedy(
+            self._blocked, [s.molecules for s in self._stats], keys, fixable, self.complete
+        )
         alone_order = sorted(
             (i for i, ok in enumerate(fixable) if ok),
-            key=lambda i: (-self._stats[i].alone, -self._stats[i].molecules, tuple_sort_key(keys[i])),
+            key=lambda i: (
+                -self._stats[i].alone,
+                -self._stats[i].molecules,
+                tuple_sort_key(keys[i]),
+            ),
         )
         alone_rank = {i: n for n, i in enumerate(alone_order, start=1)}
         ranked = [
@@ -442,7 +454,12 @@ class WorklistBuilder:
         )
         needs_class = sum(1 for ids in self._blocked if not all(fixable[i] for i in ids))
         unknown = sorted(
-            {c for k in keys for c in k[1] if not c.startswith(UNASSIGNED) and c not in self.class_elements}
+            {
+                c
+                for k in keys
+                for c in k[1]
+                if not c.startswith(UNASSIGNED) and c not in self.class_elements
+            }
         )
         return Worklist(
             include_estimated=self.include_estimated,
@@ -454,7 +471,9 @@ class WorklistBuilder:
             tuples=tuple(ranked),
             without_parameters=tuple(self._tuple(i) for i in unfixable),
             unclassified=tuple(
-                ElementGap(el, self._gap_atoms[el], self._gap_molecules[el], self._gap_has_class.get(el))
+                ElementGap(
+                    el, self._gap_atoms[el], self._gap_molecules[el], self._gap_has_class.get(el)
+                )
                 for el in sorted(self._gap_atoms)
             ),
             by_kind=self._table("kind", sorted_kinds=True),
@@ -473,7 +492,9 @@ class WorklistBuilder:
         for position, name in enumerate(classes):
             if name == UNASSIGNED:
                 atom = atoms[position] if position < len(atoms) else None
-                classes[position] = UNASSIGNED + elements.get(atom, "") if atom is not None else UNASSIGNED
+                classes[position] = (
+                    UNASSIGNED + elements.get(atom, "") if atom is not None else UNASSIGNED
+                )
         try:
             canonical, _ = canonical_classes(kind, classes)
         except (ValueError, IndexError) as exc:
@@ -604,7 +625,11 @@ def _greedy(
             members[i].append(m)
         if len(ids) == 1 and fixable[ids[0]]:
             completes[ids[0]] += 1
-    heap = [(-completes[i], -molecules[i], tuple_sort_key(keys[i]), i) for i in range(len(keys)) if fixable[i]]
+    heap = [
+        (-completes[i], -molecules[i], tuple_sort_key(keys[i]), i)
+        for i in range(len(keys))
+        if fixable[i]
+    ]
     heapq.heapify(heap)
     picked = [False] * len(keys)
     covered = complete
@@ -623,7 +648,9 @@ def _greedy(
                 last = next(u for u in blocked[m] if not picked[u])
                 if fixable[last]:
                     completes[last] += 1
-                    heapq.heappush(heap, (-completes[last], -molecules[last], tuple_sort_key(keys[last]), last))
+                    heapq.heappush(
+                        heap, (-completes[last], -molecules[last], tuple_sort_key(keys[last]), last)
+                    )
         covered += done
         order.append((i, done, covered))
     return order
@@ -703,7 +730,9 @@ def iter_results(path: str, fmt: str | None = None) -> Iterator[tuple[str, dict[
                     f"{where}:{exc.colno}: not a JSON object ({exc.msg}){hint}"
                 ) from exc
             if not isinstance(molecule, dict):
-                raise InputFileError(f"{where}: expected a JSON object (one molecule), found {type(molecule).__name__}")
+                raise InputFileError(
+                    f"{where}: expected a JSON object (one molecule), found {type(molecule).__name__}"
+                )
             yield where, molecule
 
 
@@ -716,7 +745,7 @@ def _iter_report(data: bytes, path: str) -> Iterator[tuple[str, dict[str, Any]]]
         raise InputFileError(f"{path}:{exc.lineno}:{exc.colno}: not JSON ({exc.msg})") from exc
     if not isinstance(document, dict) or document.get("format") != "ffaudit-audit":
         raise InputFileError(
-            f"{path}: not an ffaudit audit report (expected an object with \"format\": \"ffaudit-audit\")"
+            f'{path}: not an ffaudit audit report (expected an object with "format": "ffaudit-audit")'
         )
     molecules = document.get("molecules")
     if not isinstance(molecules, list):
@@ -740,9 +769,13 @@ _REQUIRED: tuple[tuple[str, type | tuple[type, ...]], ...] = (
 def _check_molecule(molecule: Mapping[str, Any], where: str) -> None:
     for key, kind in _REQUIRED:
         if key not in molecule:
-            raise InputFileError(f"{where}: the molecule has no {key!r} (is this ffaudit audit output?)")
+            raise InputFileError(
+                f"{where}: the molecule has no {key!r} (is this ffaudit audit output?)"
+            )
         if not isinstance(molecule[key], kind) or isinstance(molecule[key], bool):
-            raise InputFileError(f"{where}: {key!r} has the wrong type ({type(molecule[key]).__name__})")
+            raise InputFileError(
+                f"{where}: {key!r} has the wrong type ({type(molecule[key]).__name__})"
+            )
     if molecule["status"] not in _STATUSES:
         raise InputFileError(f"{where}: unknown status {molecule['status']!r}")
     for number, term in enumerate(molecule["terms"]):

@@ -74,9 +74,15 @@ def add_parser(sub: Any) -> None:
         action="store_true",
         help="count terms resolved only by analogy or rule estimates as blockers too",
     )
-    p.add_argument("--top", type=_positive, metavar="N", help="list (and fragment) only the first N tuples")
-    p.add_argument("--format", choices=FORMATS, default="table", help="output format (default: table)")
-    p.add_argument("-o", "--output", metavar="FILE", help="write the report to FILE (default: stdout)")
+    p.add_argument(
+        "--top", type=_positive, metavar="N", help="list (and fragment) only the first N tuples"
+    )
+    p.add_argument(
+        "--format", choices=FORMATS, default="table", help="output format (default: table)"
+    )
+    p.add_argument(
+        "-o", "--output", metavar="FILE", help="write the report to FILE (default: stdout)"
+    )
     p.add_argument(
         "--fragments",
         metavar="DIR",
@@ -95,7 +101,9 @@ def run(args: argparse.Namespace, stdout: TextIO, stderr: TextIO) -> int:
     builder = WorklistBuilder(args.include_estimated, class_elements_of(pset))
     if results:
         if args.smiles_column or args.name_column:
-            raise UsageError("--smiles-column and --name-column apply to a library, not to audit results")
+            raise UsageError(
+                "--smiles-column and --name-column apply to a library, not to audit results"
+            )
         for where, molecule in iter_results(args.input, args.input_format):
             builder.add(molecule, where)
     else:
@@ -206,7 +214,15 @@ def render_table(document: dict[str, Any], out: TextIO, limit: int | None = TABL
     console.print(f"blocking tiers: {', '.join(document['blocking_tiers'])}")
     console.print()
 
-    status = Table("molecules", "n", "%", "meaning", box=box.SIMPLE_HEAD, title="Molecules", title_justify="left")
+    status = Table(
+        "molecules",
+        "n",
+        "%",
+        "meaning",
+        box=box.SIMPLE_HEAD,
+        title="Molecules",
+        title_justify="left",
+    )
     rows = (
         ("complete", mol["complete"], "no blocking term"),
         ("coverable", mol["coverable"], "blocked only by tuples that a new parameter fixes"),
@@ -246,12 +262,20 @@ def render_table(document: dict[str, Any], out: TextIO, limit: int | None = TABL
             str(t["completes"]),
             f"{t['covered_after']} ({pct(t['covered_after'])}%)",
         )
-    console.print(table)
+    if shown:
+        console.print(table)
     hidden = document["tuples_total"] - len(shown)
     if hidden > 0:
         console.print(f"... and {hidden} more tuples (see --format json, or --top N)")
     if not document["tuples_total"]:
-        console.print("no tuple to rank: nothing a new parameter alone would fix")
+        console.print(
+            "no tuple to rank: nothing that a new parameter alone would fix"
+            + (
+                ""
+                if document["include_estimated"]
+                else " (estimated terms count only with --include-estimated)"
+            )
+        )
     curve = document["coverage_curve"]
     console.print(
         f"coverage curve: {pct(curve[0]['complete'])} % complete now, {pct(curve[-1]['complete'])} % after "
@@ -259,11 +283,25 @@ def render_table(document: dict[str, Any], out: TextIO, limit: int | None = TABL
     )
     console.print()
 
-    for title, key in (("By term kind", "by_kind"), ("By element", "by_element"), ("By class", "by_class")):
-        side = Table(title.split()[-1], "tuples", "terms", "molecules", box=box.SIMPLE_HEAD, title=title, title_justify="left")
+    for title, key in (
+        ("By term kind", "by_kind"),
+        ("By element", "by_element"),
+        ("By class", "by_class"),
+    ):
+        side = Table(
+            title.split()[-1],
+            "tuples",
+            "terms",
+            "molecules",
+            box=box.SIMPLE_HEAD,
+            title=title,
+            title_justify="left",
+        )
         items = list(document[key].items())
         for name, counts in items[:SIDE_ROWS]:
-            side.add_row(name, str(counts["tuples"]), str(counts["terms"]), str(counts["molecules"]))
+            side.add_row(
+                name, str(counts["tuples"]), str(counts["terms"]), str(counts["molecules"])
+            )
         console.print(side)
         if len(items) > SIDE_ROWS:
             console.print(f"... and {len(items) - SIDE_ROWS} more")
@@ -271,7 +309,9 @@ def render_table(document: dict[str, Any], out: TextIO, limit: int | None = TABL
     gaps = document["without_parameters"]
     console.print("Environments without parameters")
     if gaps["elements"]:
-        elements = Table("element", "atoms", "molecules", "set has a class for it", box=box.SIMPLE_HEAD)
+        elements = Table(
+            "element", "atoms", "molecules", "set has a class for it", box=box.SIMPLE_HEAD
+        )
         for g in gaps["elements"]:
             has = {True: "yes (no rule matches)", False: "no", None: "unknown"}[g["set_has_class"]]
             elements.add_row(g["element"], str(g["atoms"]), str(g["molecules"]), has)
@@ -279,7 +319,9 @@ def render_table(document: dict[str, Any], out: TextIO, limit: int | None = TABL
     else:
         console.print("every atom has a class")
     if gaps["tuples"]:
-        env = Table("tuple (atom without a class: ?element)", "molecules", "terms", box=box.SIMPLE_HEAD)
+        env = Table(
+            "tuple (atom without a class: ?element)", "molecules", "terms", box=box.SIMPLE_HEAD
+        )
         for t in gaps["tuples"][:SIDE_ROWS]:
             env.add_row(t["label"], str(t["molecules"]), str(t["terms"]))
         console.print(env)
