@@ -95,7 +95,13 @@ class ProcessBackend:
         return sorted(processes)
 
     def submit(self, job: ChunkJob) -> Future[ChunkResult]:
-        future = self._pool.submit(_work, job)
+        try:
+            future = self._pool.submit(_work, job)
+        except BrokenProcessPool as exc:
+            # A worker died between two submissions: hand the break to wait(), which recovers from it
+            # exactly as from a break seen while waiting (new pool, every unfinished chunk again).
+            future = Future()
+            future.set_exception(exc)
         self._pending[job.number] = (job, future)
         return future
 
