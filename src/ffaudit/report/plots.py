@@ -110,7 +110,8 @@ def step_curve(name: str, ys: Sequence[float], xlabel: str, ylabel: str) -> str:
     with matplotlib.rc_context(_RC):
         axes = figure.add_subplot()
         axes.step(range(len(ys)), ys, where="post", color="#1565c0")
-        axes.plot(range(len(ys)), ys, "o", color="#1565c0", markersize=3)
+        if len(ys) <= 40:
+            axes.plot(range(len(ys)), ys, "o", color="#1565c0", markersize=3)
         axes.set_ylim(0, 100)
         axes.set_xlim(0, max(1, len(ys) - 1))
         axes.set_xlabel(xlabel)

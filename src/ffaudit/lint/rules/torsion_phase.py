@@ -3,8 +3,8 @@
 For a torsion about a bond whose ends are not chiral in themselves, the energy must be symmetric under
 phi -> -phi, which holds for k (1 + cos(n phi - phase)) only when the phase is 0 or 180 degrees (common
 practice in organic force fields). Other phases are legitimate in fits to asymmetric environments, so an
-entry may state that its phase is intended: a ``note:`` containing the words ``free phase`` (any case)
-turns the check off for that entry. Phases are compared modulo 360 with a tolerance of ``tolerance``
+entry may state that its phase is intended: a ``note:`` containing ``free phase`` or ``phase:free``
+(any case, spaces around the colon allowed) turns the check off for that entry. Phases are compared modulo 360 with a tolerance of ``tolerance``
 degrees (default 0.01, rounding only).
 
 Passing:
@@ -25,6 +25,7 @@ Failing:
 
 from __future__ import annotations
 
+import re
 from collections.abc import Iterator, Mapping
 from typing import Any
 
@@ -41,7 +42,15 @@ NEEDS_REFERENCE = False
 NEEDS_SET = True
 
 MARKER = "free phase"
-"""Text in an entry's ``note:`` that declares a phase other than 0/180 intended."""
+"""Text in an entry's ``note:`` that declares a phase other than 0/180 intended (suggested in hints)."""
+
+_MARKERS = re.compile(r"free phase|phase\s*:\s*free", re.IGNORECASE)
+"""Every accepted spelling of the marker: ``free phase`` and ``phase:free``."""
+
+
+def declares_free_phase(note: str | None) -> bool:
+    """True when ``note`` says the entry's phases are intended (see :data:`_MARKERS`)."""
+    return bool(note) and _MARKERS.search(note or "") is not None
 
 
 def is_symmetric_phase(phase: float, tolerance: float) -> bool:
@@ -56,7 +65,7 @@ def check(ctx: LintContext, options: Mapping[str, Any]) -> Iterator[Finding]:
     tolerance = float(options.get("tolerance", OPTIONS["tolerance"]))
     unit = ctx.pset.header.units.get("angle", "degree")
     for entry in ctx.pset.entries("dihedral").values():
-        if entry.note and MARKER in entry.note.lower():
+        if declares_free_phase(entry.note):
             continue
         for j, term in enumerate(entry.fourier):
             if is_symmetric_phase(term.phase, tolerance):
