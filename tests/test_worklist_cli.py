@@ -85,3 +85,24 @@ def test_html_report_escapes_names(tmp_path):
     again = tmp_path / "r2.html"
     _run("report", str(results), "-o", str(again))
     assert again.read_bytes() == page.read_bytes()
+
+
+def test_worklist_from_results_equals_worklist_from_the_library(tmp_path):
+    # Audit output records each bond and dihedral term's bond order, so a worklist made from a results
+    # file keys tuples by (kind, classes, order) exactly as one made from the library in-process does.
+    # (That tuples differing only in order stay apart is tested on hand-made dicts in test_worklist.py.)
+    results = tmp_path / "lab.jsonl"
+    code, _, err = _run("audit", SAMPLE, "--format", "jsonl", "--terms", "problems", "--fail-on",
+                        "never", "-o", str(results))
+    assert code == 0, err
+    docs = []
+    for source in (SAMPLE, str(results)):
+        code, out, err = _run("worklist", source, "--include-estimated", "--format", "json")
+        assert code == 0, err
+        docs.append(json.loads(out))
+    from_library, from_results = docs
+    assert from_results["tuples"] == from_library["tuples"]
+    assert from_results["coverage_curve"] == from_library["coverage_curve"]
+    assert not any("bond order" in note for note in from_results["notes"])
+    ordered = [t for t in from_results["tuples"] if t["kind"] in ("bond", "dihedral")]
+    assert ordered and all(t["order"] in ("single", "double", "triple", "aromatic") for t in ordered)

@@ -217,7 +217,10 @@ def _cached_entry_dicts(
 
 
 def resolution_dict(r: Resolution, pset: ParameterSet) -> dict[str, Any]:
+    """One listed term as the audit output shows it (``audit-molecule.schema.json``, ``term``)."""
     out = _term_ref(r.term)
+    if r.term.bond_order is not None:  # bond, charge increment: the bond; dihedral: the central bond
+        out["order"] = r.term.bond_order
     out["tier"] = r.tier
     out["score"] = r.score
     if r.entry is not None and r.tier != "estimate":

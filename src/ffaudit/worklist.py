@@ -9,9 +9,9 @@ Definitions (the same in the code, the JSON output and the table):
   parameters are qualified by a bond order (bond, dihedral, charge increment), the bond order of the term's
   (central) bond. One new entry with exactly these classes and this ``order:`` resolves every term of the
   tuple, whatever its ring qualifier (see :func:`ffaudit.resolve.index.qualifier_variants`). The order is
-  read from the term dict's ``order`` key; the audit output does not carry it today, so a worklist made from
-  a results file has ``order`` null (tuples that differ only in bond order are counted together, and a note
-  says so) while a worklist made from a library in-process knows it (:func:`audit_to_molecule`).
+  read from the term dict's ``order`` key, which audit output carries for bonds and dihedrals; results
+  written before it did have ``order`` null (tuples that differ only in bond order are then counted
+  together, and a note says so).
 - A molecule is *blocked* by the distinct tuples of its terms in the *blocking tiers*: ``missing``, and with
   ``include_estimated`` also ``analogy`` and ``estimate`` (values that are not parameters of the set). A
   molecule with no blocker is *complete*: every term has a value (default), or every term has a parameter
@@ -292,8 +292,8 @@ class Worklist:
             )
         if self.orders_unknown:
             notes.append(
-                f"{self.orders_unknown} blocking bond/dihedral terms carry no bond order (audit results do "
-                "not record it): tuples differing only in bond order are counted together; give the "
+                f"{self.orders_unknown} blocking bond/dihedral terms carry no bond order (results written "
+                "before ffaudit recorded it): tuples differing only in bond order are counted together; give the "
                 "library instead of results to separate them"
             )
         if self.unknown_classes:
@@ -678,13 +678,8 @@ def build_worklist(
 
 def audit_to_molecule(audit: Any, pset: ParameterSet) -> dict[str, Any]:
     """The molecule dict of a :class:`ffaudit.audit.MoleculeAudit` with the terms not resolved exactly,
-    each bond-ordered term carrying its bond order under ``order`` (which the worklist uses in its key)."""
-    molecule = audit.to_dict(pset, "problems")
-    listed = [r for r in audit.resolutions if r.tier != "exact"]
-    for term_dict, resolution in zip(molecule["terms"], listed, strict=True):
-        if resolution.term.kind in ORDERED_KINDS and resolution.term.bond_order is not None:
-            term_dict["order"] = resolution.term.bond_order
-    return dict(molecule)
+    as ``audit --terms problems`` writes it (each bond-ordered term carries ``order``)."""
+    return dict(audit.to_dict(pset, "problems"))
 
 
 def is_results_path(path: str) -> bool:
