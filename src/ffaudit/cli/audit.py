@@ -20,7 +20,13 @@ from typing import Any, TextIO
 from ffaudit import __version__
 from ffaudit.audit import TERMS_MODES, AuditContext, Summary, cautions_for, parameter_set_info
 from ffaudit.cli import exitcodes
-from ffaudit.cli.common import add_params_option, add_reader_options, load_params, reader_options
+from ffaudit.cli.common import (
+    add_params_option,
+    add_reader_options,
+    load_params,
+    positive_int,
+    reader_options,
+)
 from ffaudit.engine.base import (
     DEFAULT_CHUNK_SIZE,
     ChunkJob,
@@ -38,16 +44,6 @@ TERM_LISTING_FORMATS: tuple[str, ...] = ("json", "jsonl")
 ``counts``) workers leave the list out, which keeps the molecules shipped back small."""
 DIRECTORY_FORMATS: tuple[str, ...] = ("jsonl",)
 """``--format`` values accepted with an output directory (whose chunk files are JSONL, plus Parquet)."""
-
-
-def _positive(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"must be at least 1, got {value}")
-    return value
 
 
 def add_parser(sub: Any) -> None:
@@ -127,7 +123,7 @@ def add_parser(sub: Any) -> None:
     engine.add_argument(
         "-j",
         "--jobs",
-        type=_positive,
+        type=positive_int,
         metavar="N",
         help="worker processes (default: all cores, here %(default_jobs)s; 1 audits in this process); "
         "with --scheduler local, the number of Dask workers".replace(
@@ -142,7 +138,7 @@ def add_parser(sub: Any) -> None:
     )
     engine.add_argument(
         "--chunk-size",
-        type=_positive,
+        type=positive_int,
         default=DEFAULT_CHUNK_SIZE,
         metavar="N",
         help=f"records per chunk sent to a worker and per chunk file (default: {DEFAULT_CHUNK_SIZE})",

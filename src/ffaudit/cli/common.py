@@ -7,6 +7,20 @@ import argparse
 from ffaudit.paramset.model import ParameterSet
 
 
+def positive_int(text: str) -> int:
+    """An argparse ``type`` for counts: a whole number of at least 1.
+
+    Raises ``argparse.ArgumentTypeError`` (argparse turns it into a usage error, exit 2) otherwise.
+    """
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"must be at least 1, got {value}")
+    return value
+
+
 def add_params_option(parser: argparse.ArgumentParser) -> None:
     parser.add_argument(
         "--params",

@@ -18,7 +18,13 @@ from typing import Any, TextIO
 
 from ffaudit.audit import AuditContext, cautions_for, parameter_set_info
 from ffaudit.cli import exitcodes
-from ffaudit.cli.common import add_params_option, add_reader_options, load_params, reader_options
+from ffaudit.cli.common import (
+    add_params_option,
+    add_reader_options,
+    load_params,
+    positive_int,
+    reader_options,
+)
 from ffaudit.errors import UsageError
 from ffaudit.worklist import (
     FORMAT_NAME,
@@ -47,16 +53,6 @@ ESTIMATE_CAUTION = (
 )
 
 
-def _positive(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"must be at least 1, got {value}")
-    return value
-
-
 def add_parser(sub: Any) -> None:
     p = sub.add_parser(
         "worklist",
@@ -75,7 +71,7 @@ def add_parser(sub: Any) -> None:
         help="count terms resolved only by analogy or rule estimates as blockers too",
     )
     p.add_argument(
-        "--top", type=_positive, metavar="N", help="list (and fragment) only the first N tuples"
+        "--top", type=positive_int, metavar="N", help="list (and fragment) only the first N tuples"
     )
     p.add_argument(
         "--format", choices=FORMATS, default="table", help="output format (default: table)"
