@@ -118,8 +118,8 @@ class MoleculeAudit:
     @property
     def counts(self) -> TierCounts:
         counts = TierCounts()
-        for r in self.resolutions:
-            counts.add(r.term.kind, r.tier)
+        for (kind, tier), n in Counter((r.term.kind, r.tier) for r in self.resolutions).items():
+            counts.add(kind, tier, n)
         return counts
 
     @property
