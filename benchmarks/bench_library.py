@@ -4,17 +4,25 @@ Prints molecules per second for
 
 - the reference: RDKit's MMFF94 pre-flight on the same molecules (parse SMILES, add hydrogens, MMFF typing,
   ``MMFFHasAllMoleculeParams``), one core;
-- ffaudit's full audit with the embedded set (parse, classes, terms, resolution, estimates, the JSONL
-  molecule objects with every term), one core, and the ratio of the two times;
-- ffaudit with 2 worker processes (and a Dask LocalCluster of 2 workers with ``--dask``), as speed-ups;
+- ffaudit's full audit with the embedded set, as ``ffaudit audit`` runs it: the engine's chunk function
+  (:func:`ffaudit.engine.work.run_chunk`: parse, batched fast path for classes, terms, resolution and
+  estimates, the molecule objects with every term or with problems only), one core, and the ratio of the
+  two times; the same with the reference path forced (``FFAUDIT_REFERENCE_PATH=1``), for comparison;
+- whole ``ffaudit audit`` runs (set loading, worker start-up and writing included, as a user sees them) on
+  one core, with 2 worker processes and with a Dask LocalCluster of 2 workers (skip it with ``--no-dask``),
+  writing a JSONL report and writing an output directory, as wall times and speed-ups over one core;
 
-and the peak RSS of a whole ``ffaudit audit`` process for 5K records and for 50K records (the file repeated).
-With ``--big``: wall time and peak RSS of a 1,000,000-record run on all cores in output-directory mode.
+and wall time and peak RSS of a whole ``ffaudit audit`` process (JSONL, ``--terms problems``, one core) for
+5K records and for 50K records (the file repeated). With ``--big``: wall time and peak RSS of a
+1,000,000-record run on all cores in output-directory mode.
+
+Each in-process time is the best of ``--repeats`` rounds, MMFF94 and ffaudit interleaved, because other work
+on the machine slows single rounds; the load average is printed before and after.
 
 Input: RDKit's shipped ``Data/NCI/first_5K.smi``. Ratios, not absolute times, are what to compare across
 machines: both sides are measured on the same machine within minutes of each other.
 
-Usage: ``python benchmarks/bench_library.py [--records N] [--dask] [--big]``
+Usage: ``python benchmarks/bench_library.py [--records N] [--repeats R] [--no-dask] [--big]``
 """
 
 from __future__ import annotations
@@ -54,31 +62,57 @@ def mmff_preflight(lines: list[str]) -> float:
     return time.perf_counter() - start
 
 
-def ffaudit_run(path: str, backend: str, jobs: int, terms: str = "all") -> tuple[float, int]:
-    """Seconds and records for a full audit of ``path`` with the embedded set (output objects built)."""
+def ffaudit_run(
+    path: str, backend: str, jobs: int, terms: str = "all", reference: bool = False
+) -> tuple[float, int]:
+    """Seconds and records for a full audit of ``path`` with the embedded set (output objects built).
+
+    The chunks go through the engine exactly as in ``ffaudit audit`` (default chunk size, the chunk
+    function of every back-end); ``reference`` sets ``FFAUDIT_REFERENCE_PATH=1`` for the run (in-process
+    only: worker processes would read it when they start).
+    """
     from ffaudit.audit import AuditContext
-    from ffaudit.engine.base import audit_chunks
+    from ffaudit.engine.base import DEFAULT_CHUNK_SIZE, ChunkOptions, audit_chunks
     from ffaudit.engine.rawsplit import plan_library
-    from ffaudit.engine.work import ChunkOptions
+    from ffaudit.engine.work import REFERENCE_PATH_VARIABLE
     from ffaudit.paramset.load import load_parameter_set
 
     context = AuditContext(load_parameter_set())
-    start = time.perf_counter()
-    n = 0
-    for result in audit_chunks(
-        context,
-        plan_library(path, chunk_size=250),
-        options=ChunkOptions(terms=terms),
-        backend=backend,
-        n_jobs=jobs,
-        scheduler="local" if backend == "dask" else None,
-    ):
-        n += result.count
-    return time.perf_counter() - start, n
+    old = os.environ.pop(REFERENCE_PATH_VARIABLE, None)
+    if reference:
+        os.environ[REFERENCE_PATH_VARIABLE] = "1"
+    try:
+        start = time.perf_counter()
+        n = 0
+        for result in audit_chunks(
+            context,
+            plan_library(path, chunk_size=DEFAULT_CHUNK_SIZE),
+            options=ChunkOptions(terms=terms),
+            backend=backend,
+            n_jobs=jobs,
+            scheduler="local" if backend == "dask" else None,
+        ):
+            n += result.count
+        return time.perf_counter() - start, n
+    finally:
+        os.environ.pop(REFERENCE_PATH_VARIABLE, None)
+        if old is not None:
+            os.environ[REFERENCE_PATH_VARIABLE] = old
+
+
+def load_average() -> str:
+    """The 1, 5 and 15 minute load averages, as ``uptime`` shows them."""
+    try:
+        return ", ".join(f"{x:.2f}" for x in os.getloadavg())
+    except OSError:
+        return "unknown"
 
 
 def peak_rss_mib(argv: list[str]) -> tuple[float, float]:
-    """Wall seconds and peak RSS (MiB) of ``python -m ffaudit.cli.main ARGV`` in a fresh process."""
+    """Wall seconds and peak RSS (MiB) of ``python -m ffaudit.cli.main ARGV`` in a fresh process.
+
+    Raises ``RuntimeError`` with the end of its stderr when the run fails.
+    """
     code = (
         "import resource, sys, time\n"
         "from ffaudit.cli.main import main\n"
@@ -90,9 +124,12 @@ def peak_rss_mib(argv: list[str]) -> tuple[float, float]:
         "print(dt, max(self_kib, kids_kib) / 1024, file=sys.stderr)\n"
     )
     proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=False)
-    last = proc.stderr.strip().splitlines()[-1]
-    seconds, mib = last.split()
-    return float(seconds), float(mib)
+    lines = proc.stderr.strip().splitlines()
+    try:
+        seconds, mib = lines[-1].split()
+        return float(seconds), float(mib)
+    except (IndexError, ValueError):
+        raise RuntimeError(f"ffaudit {' '.join(argv)} failed:\n" + "\n".join(lines[-20:])) from None
 
 
 def repeated(lines: list[str], times: int, directory: str) -> str:
@@ -109,7 +146,10 @@ def main() -> int:
         "--records", type=int, default=5000, help="molecules of first_5K.smi to use"
     )
     parser.add_argument(
-        "--dask", action="store_true", help="also measure a Dask LocalCluster (2 workers)"
+        "--repeats", type=int, default=3, help="rounds of the one-core measurements (best is kept)"
+    )
+    parser.add_argument(
+        "--no-dask", action="store_true", help="skip the Dask LocalCluster (2 workers)"
     )
     parser.add_argument(
         "--big", action="store_true", help="also run 1,000,000 records on all cores"
@@ -120,24 +160,51 @@ def main() -> int:
     print(
         f"machine: {platform.machine()}, {os.cpu_count()} cores, Python {platform.python_version()}"
     )
-    print(f"input: {NCI.name}, {len(lines)} molecules")
+    print(f"input: {NCI.name}, {len(lines)} molecules; best of {args.repeats} rounds")
+    print(f"load average before: {load_average()}")
     with tempfile.TemporaryDirectory() as tmp:
         base = repeated(lines, 1, tmp)
-        t_mmff = mmff_preflight(lines)
-        t_one, n = ffaudit_run(base, "inprocess", 1)
-        t_problems, _ = ffaudit_run(base, "inprocess", 1, terms="problems")
-        t_two, _ = ffaudit_run(base, "processes", 2)
-        print(f"RDKit MMFF94 pre-flight, 1 core:        {len(lines) / t_mmff:8.0f} molecules/s")
-        print(f"ffaudit audit (--terms all), 1 core:    {n / t_one:8.0f} molecules/s")
-        print(f"ffaudit audit (--terms problems), 1 core:{n / t_problems:7.0f} molecules/s")
-        print(f"ratio ffaudit / MMFF94 time, 1 core:    {t_one / t_mmff:8.2f}  (terms all)")
+        t_mmff = t_one = t_problems = float("inf")
+        n = 0
+        for _ in range(max(1, args.repeats)):
+            t_mmff = min(t_mmff, mmff_preflight(lines))
+            seconds, n = ffaudit_run(base, "inprocess", 1)
+            t_one = min(t_one, seconds)
+            t_problems = min(t_problems, ffaudit_run(base, "inprocess", 1, terms="problems")[0])
+        t_reference, _ = ffaudit_run(base, "inprocess", 1, reference=True)  # one round: it is slow
+        print(f"RDKit MMFF94 pre-flight, 1 core:          {len(lines) / t_mmff:8.0f} molecules/s")
+        print(f"ffaudit audit (--terms all), 1 core:      {n / t_one:8.0f} molecules/s")
+        print(f"ffaudit audit (--terms problems), 1 core: {n / t_problems:8.0f} molecules/s")
+        print(f"reference path (--terms all), 1 core:     {n / t_reference:8.0f} molecules/s")
+        print(f"ratio ffaudit / MMFF94 time, 1 core:      {t_one / t_mmff:8.2f}  (terms all)")
         print(
-            f"ratio ffaudit / MMFF94 time, 1 core:    {t_problems / t_mmff:8.2f}  (terms problems)"
+            f"ratio ffaudit / MMFF94 time, 1 core:      {t_problems / t_mmff:8.2f}  (terms problems)"
         )
-        print(f"speed-up with 2 processes:              {t_one / t_two:8.2f}x")
-        if args.dask:
-            t_dask, _ = ffaudit_run(base, "dask", 2)
-            print(f"speed-up with Dask LocalCluster (2):    {t_one / t_dask:8.2f}x")
+        print(f"ratio reference path / MMFF94 time:       {t_reference / t_mmff:8.2f}  (terms all)")
+        print(f"fast path speed-up over reference path:   {t_reference / t_one:8.2f}x")
+        # whole CLI runs (set loading, workers' start-up and writing included), one after another
+        report = ["--format", "jsonl", "--terms", "all", "--fail-on", "never", "-o", os.devnull]
+        engines: list[tuple[str, list[str]]] = [("1 core", ["--jobs", "1"])]
+        engines.append(("2 processes", ["--jobs", "2"]))
+        if not args.no_dask:
+            engines.append(("Dask LocalCluster (2)", ["--scheduler", "local", "--jobs", "2"]))
+        for mode, output in (
+            ("JSONL report", report),
+            ("output directory", ["--terms", "all", "--fail-on", "never", "--no-progress"]),
+        ):
+            walls: dict[str, float] = {}
+            for label, engine in engines:
+                extra = list(output)
+                if mode == "output directory":
+                    extra += ["-o", os.path.join(tmp, f"dir-{len(walls)}") + "/"]
+                walls[label], _ = peak_rss_mib(["audit", base, *extra, *engine])
+            one = walls["1 core"]
+            print(
+                f"CLI, {mode}, 1 core: {one:6.1f} s, ratio to MMFF94 pre-flight {one / t_mmff:.2f}"
+            )
+            for label, wall in walls.items():
+                if label != "1 core":
+                    print(f"CLI, {mode}, speed-up with {label}: {one / wall:5.2f}x ({wall:.1f} s)")
         x10 = repeated(lines, 10, tmp)
         common = [
             "--format",
@@ -149,11 +216,15 @@ def main() -> int:
             "-o",
             os.devnull,
         ]
-        _, rss5 = peak_rss_mib(["audit", base, *common, "--jobs", "1"])
-        _, rss50 = peak_rss_mib(["audit", x10, *common, "--jobs", "1"])
-        print(f"peak RSS, {len(lines)} records:                {rss5:8.1f} MiB")
+        wall5, rss5 = peak_rss_mib(["audit", base, *common, "--jobs", "1"])
+        wall50, rss50 = peak_rss_mib(["audit", x10, *common, "--jobs", "1"])
         print(
-            f"peak RSS, {10 * len(lines)} records:               {rss50:8.1f} MiB  (ratio {rss50 / rss5:.3f})"
+            f"CLI, JSONL --terms problems, {len(lines)} records, 1 core:  {wall5:6.1f} s, "
+            f"peak RSS {rss5:7.1f} MiB"
+        )
+        print(
+            f"CLI, JSONL --terms problems, {10 * len(lines)} records, 1 core: {wall50:6.1f} s, "
+            f"peak RSS {rss50:7.1f} MiB  (RSS ratio {rss50 / rss5:.3f})"
         )
         if args.big:
             times = max(1, 1_000_000 // len(lines))
@@ -175,6 +246,7 @@ def main() -> int:
             print(
                 f"{times * len(lines)} records, all cores, output directory: {wall:.0f} s, peak RSS {rss:.1f} MiB"
             )
+    print(f"load average after: {load_average()}")
     return 0
 
 

@@ -1,0 +1,541 @@
+"""The batched fast path: audits of many records at once, identical to :meth:`AuditContext.audit_record`.
+
+:class:`FastAuditor` takes records in groups (default 50), joins their molecules into one RDKit molecule
+(:mod:`ffaudit.molbatch`), matches each class rule once per group (:mod:`ffaudit.perceive.batch`), enumerates the
+terms of the whole group with numpy (:mod:`ffaudit.terms_batch`) and resolves each distinct (kind, classes,
+qualifiers) tuple once. It then builds, record by record in input order, the same :class:`MoleculeAudit` the
+reference (``AuditContext.audit_record``) builds: same classes, terms, resolutions, findings, status; the same
+``to_dict`` output. It shares the context's :class:`~ffaudit.resolve.driver.Resolver`, and asks it about terms
+in the reference's order, so even order-dependent details come out the same.
+
+Where the reference would do something the batch cannot reproduce, the record goes the reference's way
+(``context.audit_record``): a record without a molecule, a molecule whose valences were never computed or that
+has no ring information, and any record whose batch step raises. A batch that fails as a whole (RDKit raises,
+a pattern has too many matches) is audited record by record with the reference, so one bad record costs the
+others nothing but time. Molecules whose hydrogens are not all plain one-bond hydrogens, and every molecule
+when a class rule cannot be used without added hydrogens, are joined with their hydrogens added (the explicit
+layout, slower but needing no rule translation).
+
+Engines call :func:`audit_records` (or :meth:`FastAuditor.audit_records`) on a chunk's records.
+
+Failure: nothing here raises for a bad record; every record gets exactly one audit, in input order.
+"""
+
+from __future__ import annotations
+
+import gc
+import itertools
+import weakref
+from collections.abc import Iterable, Iterator, Sequence
+from dataclasses import dataclass, fields, is_dataclass
+from typing import Any
+
+import numpy as np
+from numpy.typing import NDArray
+from rdkit import Chem, rdBase
+
+from ffaudit.audit import AuditContext, MoleculeAudit, decide_status
+from ffaudit.findings import Finding, Severity
+from ffaudit.molbatch import (
+    BondCodes,
+    HydrogenGraph,
+    MolBatch,
+    MoleculeFacts,
+    hydrogens_are_plain,
+    join_molecules,
+    read_facts,
+)
+from ffaudit.paramset.canonical import UNASSIGNED
+from ffaudit.paramset.model import KINDS
+from ffaudit.perceive.batch import BatchRules
+from ffaudit.perceive.classes import Assignment
+from ffaudit.perceive.propose import propose_class
+from ffaudit.read.record import Record
+from ffaudit.resolve.driver import Resolution
+from ffaudit.resolve.estimate import MoleculeTypes
+from ffaudit.score import RESOLVED_FROM_SET
+from ffaudit.terms import Term
+from ffaudit.terms_batch import NO_QUALIFIER, KindTerms, enumerate_batch
+
+IntArray = NDArray[np.int64]
+
+DEFAULT_BATCH_SIZE = 50
+"""Molecules joined into one RDKit molecule (about 50 measured best; see benchmarks/bench_fast_path.py)."""
+
+DEFAULT_BATCH_ATOMS = 4000
+"""A batch is closed before it exceeds this many atoms (a huge molecule forms a batch of its own)."""
+
+LAYOUTS = ("auto", "explicit")
+"""``auto``: the heavy layout where the set's rules allow it; ``explicit``: always add hydrogens first."""
+
+_SYMBOLS = tuple(Chem.GetPeriodicTable().GetElementSymbol(z) for z in range(119))
+_new = object.__new__
+_set = object.__setattr__
+
+
+def _plain_dataclass(cls: type) -> bool:
+    """True when instances can be built by filling ``__dict__`` (no ``__post_init__``, no slots)."""
+    return is_dataclass(cls) and not hasattr(cls, "__post_init__") and not hasattr(cls, "__slots__")
+
+
+_FAST_OBJECTS = _plain_dataclass(Term) and _plain_dataclass(Resolution)
+_RESOLUTION_FIELDS = tuple(f.name for f in fields(Resolution))
+
+
+_UNSEEN: Any = object()
+
+
+def _template(resolution: Resolution) -> dict[str, Any]:
+    """The fields of ``resolution`` that every term with the same tuple shares (all but the term)."""
+    values = {name: getattr(resolution, name) for name in _RESOLUTION_FIELDS}
+    if resolution.details:
+        raise ValueError("a resolution shared by a tuple carries per-term details")
+    return values
+
+
+class _UseReference(Exception):
+    """This record goes the reference's way."""
+
+
+@dataclass(frozen=True)
+class _KeyInfo:
+    kind: str
+    classes: tuple[str, ...]
+    order: str | None
+    ring: bool | None
+    unassigned: bool
+
+
+@dataclass
+class _KindRows:
+    kind: str
+    bounds: IntArray
+    atoms: list[tuple[int, ...]]
+    keys: list[int]
+
+
+@dataclass
+class _Done:
+    """The batch step's results for one group of molecules."""
+
+    batch: MolBatch
+    graph: HydrogenGraph
+    atom_rule: list[int]
+    rows: list[_KindRows]
+    fragments: list[int]
+
+
+@dataclass
+class _Item:
+    position: int
+    record: Record
+    facts: MoleculeFacts
+    molh: Chem.Mol | None
+
+
+class FastAuditor:
+    """Batched audits for one :class:`AuditContext` (see the module docstring).
+
+    ``batch_size``: molecules per joined molecule; ``max_batch_atoms``: atom cap per batch; ``layout``: one of
+    :data:`LAYOUTS`. Raises ``ValueError`` for a bad argument.
+    """
+
+    def __init__(
+        self,
+        context: AuditContext,
+        batch_size: int = DEFAULT_BATCH_SIZE,
+        max_batch_atoms: int = DEFAULT_BATCH_ATOMS,
+        layout: str = "auto",
+    ) -> None:
+        if batch_size < 1 or max_batch_atoms < 1:
+            raise ValueError("batch_size and max_batch_atoms must be at least 1")
+        if layout not in LAYOUTS:
+            raise ValueError(f"unknown layout {layout!r} (expected one of {', '.join(LAYOUTS)})")
+        self.context = context
+        self.batch_size = batch_size
+        self.max_batch_atoms = max_batch_atoms
+        self.layout = layout
+        self._setup()
+
+    def _setup(self) -> None:
+        context = self.context
+        self.batch_rules = BatchRules(context.rules)
+        self.heavy = self.layout == "auto" and self.batch_rules.heavy_steps is not None
+        rules = context.rules.rules
+        ids = sorted({r.class_id for r in rules} | {UNASSIGNED})
+        self._ids = ids
+        rank = {cid: i for i, cid in enumerate(ids)}
+        # index -1 (no rule) picks the last entry, the rank of "?"
+        self._rank_of_rule = np.array(
+            [rank[r.class_id] for r in rules] + [rank[UNASSIGNED]], np.int64
+        )
+        self._unassigned_rank = rank[UNASSIGNED]
+        self._rank_bits = max(1, len(ids).bit_length())
+        self._bond_codes = BondCodes()
+        self._key_info: dict[int, _KeyInfo] = {}
+        self._templates: dict[int, dict[str, Any] | None] = {}
+        self._assignments: dict[tuple[int, int], Assignment] = {}
+        self._findings: dict[tuple[int, str], Finding] = {}
+        self._estimate = "estimate" in context.resolver.tiers
+        self._usable = 4 * self._rank_bits + 3 + 8 + 2 <= 62
+        self._header_ok = context.pset.header.out_of_plane_centres in ("none", "trigonal", "planar")
+
+    def __getstate__(self) -> dict[str, Any]:
+        return {
+            "context": self.context,
+            "batch_size": self.batch_size,
+            "max_batch_atoms": self.max_batch_atoms,
+            "layout": self.layout,
+        }
+
+    def __setstate__(self, state: dict[str, Any]) -> None:
+        self.__dict__.update(state)
+        self._setup()
+
+    # --- public -----------------------------------------------------------------------------------
+
+    def audit_records(self, records: Iterable[Record]) -> Iterator[MoleculeAudit]:
+        """One audit per record, in input order, records taken ``batch_size`` at a time."""
+        iterator = iter(records)
+        while True:
+            chunk = list(itertools.islice(iterator, self.batch_size))
+            if not chunk:
+                return
+            yield from self.audit_batch(chunk)
+
+    def audit_batch(self, records: Sequence[Record]) -> list[MoleculeAudit]:
+        """Audits of ``records`` (any number; joined ``batch_size`` at a time), in the same order.
+
+        The cyclic garbage collector is paused while the audits are built: they are hundreds of thousands of
+        small acyclic objects, and collections triggered by their allocation would scan every live object
+        again and again (measured: half the time of building them). It is switched back on before returning,
+        also on error. RDKit's log is silenced meanwhile (its messages about records that go the reference's
+        way would otherwise reach stderr; the audits carry the reasons).
+        """
+        paused = gc.isenabled()
+        if paused:
+            gc.disable()
+        try:
+            with rdBase.BlockLogs():
+                return self._audit_batch(records)
+        finally:
+            if paused:
+                gc.enable()
+
+    def _audit_batch(self, records: Sequence[Record]) -> list[MoleculeAudit]:
+        context = self.context
+        results: list[MoleculeAudit | None] = [None] * len(records)
+        if not (self._usable and self._header_ok):
+            return [context.audit_record(r) for r in records]
+        heavy: list[_Item] = []
+        explicit: list[_Item] = []
+        for position, record in enumerate(records):
+            item = self._prepare(position, record)
+            if item is None:
+                continue
+            (explicit if item.molh is not None else heavy).append(item)
+        done: dict[int, tuple[_Done, int] | None] = {}
+        for group in (heavy, explicit):
+            for batch_items in self._batches(group):
+                outcome = self._run_batch(batch_items)
+                for m, item in enumerate(batch_items):
+                    done[item.position] = None if outcome is None else (outcome, m)
+        for position, record in enumerate(records):
+            if position not in done:
+                results[position] = context.audit_record(record)
+                continue
+            entry = done[position]
+            item_result = None
+            if entry is not None:
+                try:
+                    item_result = self._finish(record, entry[0], entry[1])
+                except Exception:  # the reference reproduces whatever happens to this record
+                    item_result = None
+            results[position] = (
+                item_result if item_result is not None else context.audit_record(record)
+            )
+        return [r for r in results if r is not None]
+
+    # --- steps ------------------------------------------------------------------------------------
+
+    def _prepare(self, position: int, record: Record) -> _Item | None:
+        """The record's facts for the batch, or None when it goes the reference's way."""
+        mol = record.mol
+        if mol is None:
+            return None
+        try:
+            if mol.NeedsUpdatePropertyCache():
+                raise _UseReference
+            mol.GetRingInfo().NumRings()  # raises when the molecule has no ring information
+            facts = read_facts(mol, hydrogens_added=False)
+            if self.heavy and hydrogens_are_plain(facts):
+                return _Item(position, record, facts, None)
+            molh = Chem.AddHs(mol)
+            return _Item(position, record, read_facts(molh, hydrogens_added=True), molh)
+        except Exception:
+            return None
+
+    def _batches(self, items: list[_Item]) -> Iterator[list[_Item]]:
+        current: list[_Item] = []
+        atoms = 0
+        for item in items:
+            n = item.facts.n_atoms + sum(item.facts.new_h)
+            if current and (len(current) >= self.batch_size or atoms + n > self.max_batch_atoms):
+                yield current
+                current, atoms = [], 0
+            current.append(item)
+            atoms += n
+        if current:
+            yield current
+
+    def _run_batch(self, items: list[_Item]) -> _Done | None:
+        try:
+            return self._compute(items)
+        except Exception:  # every record of the batch then goes the reference's way
+            return None
+
+    def _compute(self, items: list[_Item]) -> _Done:
+        explicit = items[0].molh is not None
+        batch = join_molecules(
+            [item.facts for item in items],
+            added_h=explicit,
+            bond_codes=self._bond_codes,
+            copy_ring_info=self.batch_rules.needs_ring_info,
+        )
+        rule_of, h_rule_of = self.batch_rules.classify(batch)
+        graph = batch.hydrogen_graph()
+        source = graph.source
+        atom_rule = np.empty(graph.n_atoms, dtype=np.int64)
+        from_joined = source >= 0
+        atom_rule[from_joined] = rule_of[source[from_joined]]
+        added = ~from_joined
+        atom_rule[added] = h_rule_of[-1 - source[added]]
+        if not explicit:
+            neighbour = batch.hydrogen_neighbour()
+            joined_h = from_joined & (graph.z == 1)
+            atom_rule[joined_h] = h_rule_of[neighbour[source[joined_h]]]
+        rank = self._rank_of_rule[atom_rule]
+        kinds = enumerate_batch(graph, rank, self.context.pset.header, self.context.kinds)
+        rows = [self._rows(kt, graph, batch.n_mols) for kt in kinds]
+        return _Done(
+            batch, graph, atom_rule.tolist(), rows, batch.fragments_per_molecule().tolist()
+        )
+
+    def _rows(self, kt: KindTerms, graph: HydrogenGraph, n_mols: int) -> _KindRows:
+        kind_index = KINDS.index(kt.kind)
+        n = len(kt)
+        if n == 0:
+            return _KindRows(kt.kind, kt.bounds(n_mols), [], [])
+        local = kt.atoms - graph.starts[kt.molecule][:, None]
+        atoms = list(map(tuple, local.tolist()))
+        bits = self._rank_bits
+        key = np.full(n, kind_index, dtype=np.int64)
+        for c in range(4):
+            column = kt.ranks[:, c] if c < kt.ranks.shape[1] else np.zeros(n, dtype=np.int64)
+            key = (key << bits) | column
+        key = (key << 8) | (kt.code + 1)
+        key = (key << 2) | (kt.ring + 1)
+        distinct, first = np.unique(key, return_index=True)
+        for k, row in zip(distinct.tolist(), first.tolist(), strict=True):
+            if k not in self._key_info:
+                self._key_info[k] = self._describe(kt, row)
+        keys = key.tolist()
+        return _KindRows(kt.kind, kt.bounds(n_mols), atoms, keys)
+
+    def _describe(self, kt: KindTerms, row: int) -> _KeyInfo:
+        ranks = kt.ranks[row].tolist()
+        classes = tuple(self._ids[r] for r in ranks)
+        code = int(kt.code[row])
+        ring = int(kt.ring[row])
+        order = None if code == NO_QUALIFIER else self._bond_codes.names[code]
+        in_ring = None if ring == NO_QUALIFIER else bool(ring)
+        return _KeyInfo(kt.kind, classes, order, in_ring, self._unassigned_rank in ranks)
+
+    # --- the audit of one record --------------------------------------------------------------------
+
+    def _finish(self, record: Record, done: _Done, m: int) -> MoleculeAudit:
+        context = self.context
+        resolver = context.resolver
+        batch, graph = done.batch, done.graph
+        item_facts = batch.facts[m]
+        lo, hi = int(graph.starts[m]), int(graph.starts[m + 1])
+        mol = record.mol
+        assert mol is not None
+        molh_cache: list[Chem.Mol] = []
+
+        def molh() -> Chem.Mol:
+            if not molh_cache:
+                molh_cache.append(item_facts.mol if batch.added_h else Chem.AddHs(mol))
+            return molh_cache[0]
+
+        smiles = _smiles(mol)
+        z_local = graph.z[lo:hi].tolist()
+        if 0 in z_local:
+            elements = tuple(a.GetSymbol() for a in molh().GetAtoms())
+        else:
+            elements = tuple(map(_SYMBOLS.__getitem__, z_local))
+        # classes
+        rules = context.rules.rules
+        assignments: list[Assignment] = []
+        findings: list[Finding] = []
+        for local, rule_index in enumerate(done.atom_rule[lo:hi]):
+            if rule_index >= 0:
+                atom_key = (local, rule_index)
+                assignment = self._assignments.get(atom_key)
+                if assignment is None:
+                    rule = rules[rule_index]
+                    assignment = Assignment(
+                        local, rule.class_id, f"{rule.class_id}/{rule.number}", rule.location
+                    )
+                    self._assignments[atom_key] = assignment
+            else:
+                assignment = Assignment(local, None, None, None)
+                findings.append(self._unclassified(local, elements[local]))
+            assignments.append(assignment)
+        # terms and resolutions, in the reference's order
+        types_cache: list[MoleculeTypes | None] = []
+
+        def types() -> MoleculeTypes | None:
+            if not types_cache:
+                types_cache.append(MoleculeTypes(molh()) if self._estimate else None)
+            return types_cache[0]
+
+        resolutions: list[Resolution] = []
+        append = resolutions.append
+        templates = self._templates
+        infos = self._key_info
+        fast = _FAST_OBJECTS
+        for rows in done.rows:
+            start, end = int(rows.bounds[m]), int(rows.bounds[m + 1])
+            kind = rows.kind
+            for atoms, key in zip(rows.atoms[start:end], rows.keys[start:end], strict=True):
+                info = infos[key]
+                if fast:
+                    term = _new(Term)
+                    _set(
+                        term,
+                        "__dict__",
+                        {
+                            "kind": kind,
+                            "atoms": atoms,
+                            "classes": info.classes,
+                            "bond_order": info.order,
+                            "in_ring": info.ring,
+                        },
+                    )
+                else:
+                    term = Term(kind, atoms, info.classes, info.order, info.ring)
+                template = templates.get(key, _UNSEEN)
+                if template is not None and template is not _UNSEEN:
+                    if fast:
+                        values = template.copy()
+                        values["term"] = term
+                        values["details"] = {}
+                        resolution = _new(Resolution)
+                        _set(resolution, "__dict__", values)
+                        append(resolution)
+                    else:
+                        append(Resolution(**{**template, "term": term, "details": {}}))
+                    continue
+                if template is None or info.unassigned:
+                    # per-term: an estimate, or a term with an unclassified atom (the reference never
+                    # caches those: the reason names the atoms)
+                    append(resolver.resolve(term, types()))
+                    continue
+                first = resolver.resolve(term, None)
+                if first.tier == "missing" and self._estimate:
+                    templates[key] = None
+                    append(resolver.resolve(term, types()))
+                else:
+                    templates[key] = _template(first)
+                    append(first)
+        resolved = tuple(resolutions)
+        proposed: tuple[Any, ...] = ()
+        if findings:
+            proposed = tuple(propose_class(molh(), f.atoms[0]) for f in findings)
+            by_atom = {p.atom: p for p in proposed}
+            findings = [
+                f.with_(
+                    hint=f"{f.hint}; proposed class {by_atom[f.atoms[0]].id}: {by_atom[f.atoms[0]].smarts}"
+                )
+                for f in findings
+            ]
+        unreviewed = sum(
+            1
+            for r in resolved
+            if r.entry is not None and r.entry.estimated and r.tier in RESOLVED_FROM_SET
+        )
+        if unreviewed:
+            findings.append(
+                Finding(
+                    code="estimated-entry",
+                    severity=Severity.WARNING,
+                    message=f"{unreviewed} terms use entries the set marks as estimated (not reviewed)",
+                    cause="estimated-entry",
+                    hint="review the entries marked 'estimated: true' before production simulations",
+                )
+            )
+        findings = [f.with_(molecule=record.name, record=record.record) for f in findings]
+        status, reason = decide_status(resolved, findings)
+        return MoleculeAudit(
+            record=record,
+            status=status,
+            reason=reason,
+            smiles=smiles,
+            assignments=tuple(assignments),
+            resolutions=resolved,
+            findings=tuple(findings),
+            fragments=done.fragments[m],
+            elements=elements,
+            proposed=proposed,
+        )
+
+    def _unclassified(self, atom: int, element: str) -> Finding:
+        """The finding :meth:`ClassRules.perceive` makes for an atom no rule matches."""
+        key = (atom, element)
+        finding = self._findings.get(key)
+        if finding is None:
+            near = self.context.rules.classes_for_element(element)
+            hint = (
+                f"classes for {element} exist ({', '.join(near[:5])}) but none matches this environment"
+                if near
+                else f"the set has no class for element {element}"
+            )
+            finding = Finding(
+                code="unclassified-atom",
+                severity=Severity.WARNING,
+                message=f"atom {atom} ({element}) matches no class rule",
+                atoms=(atom,),
+                cause="no-class",
+                hint=hint,
+            )
+            self._findings[key] = finding
+        return finding
+
+
+def _smiles(mol: Chem.Mol) -> str:
+    """The audit's SMILES, as the reference writes it."""
+    try:
+        return str(Chem.MolToSmiles(Chem.RemoveHs(mol)))
+    except Exception:
+        return str(Chem.MolToSmiles(mol))
+
+
+_AUDITORS: weakref.WeakKeyDictionary[AuditContext, FastAuditor] = weakref.WeakKeyDictionary()
+
+
+def fast_auditor(context: AuditContext) -> FastAuditor:
+    """The :class:`FastAuditor` of ``context`` (made on first use, kept while the context lives)."""
+    auditor = _AUDITORS.get(context)
+    if auditor is None:
+        auditor = FastAuditor(context)
+        _AUDITORS[context] = auditor
+    return auditor
+
+
+def audit_records(context: AuditContext, records: Iterable[Record]) -> Iterator[MoleculeAudit]:
+    """The batched equivalent of ``(context.audit_record(r) for r in records)``: the same audits, in order.
+
+    This is the call an engine makes per chunk.
+    """
+    return fast_auditor(context).audit_records(records)
