@@ -197,6 +197,11 @@ def test_parquet_chunks_hold_the_jsonl_molecules(tmp_path, library, stdout_jsonl
         for term_row, term in zip(row["terms"], molecule["terms"], strict=True):
             assert term_row["classes"] == term["classes"] and term_row["tier"] == term["tier"]
             assert json.loads(term_row["values_json"]) == term["values"]
+            assert json.loads(term_row["provenance_json"] or "null") == term["provenance"]
+            assert term_row["order"] == term.get("order")
+            assert term_row["extra_json"] is None or json.loads(term_row["extra_json"]) == {
+                k: v for k, v in term.items() if k in ("substitutions",)
+            }
 
 
 def test_progress_is_quiet_unless_forced(library):

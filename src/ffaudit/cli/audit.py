@@ -303,6 +303,7 @@ def _run_report(
 ) -> dict[str, Any]:
     from ffaudit.engine.progress import ProgressBar
     from ffaudit.report.base import make_reporter, open_output
+    from ffaudit.report.jsonl import JsonlReporter
 
     to_terminal = args.output in (None, "-") and _isatty(stdout) and fmt != "table"
     summary = Summary(pset)
@@ -311,8 +312,13 @@ def _run_report(
         reporter.start(run_info)
         with ProgressBar(stderr, total, enabled=show and not to_terminal) as bar:
             terms = args.terms if fmt in TERM_LISTING_FORMATS else "none"
-            for chunk in audit(chunk_jobs, ChunkOptions(terms=terms)):
+            # JSON lines are encoded by the workers (as in directory mode), so that the parent only
+            # writes them: encoding in the parent would serialise the run on one core.
+            encoded = isinstance(reporter, JsonlReporter)
+            for chunk in audit(chunk_jobs, ChunkOptions(terms=terms, encode=encoded)):
                 summary.merge(chunk.summary)
+                if encoded:
+                    reporter.add_lines(chunk.jsonl or "")
                 for molecule in chunk.molecules or ():
                     reporter.add(molecule)
                 bar.advance(chunk.count)

@@ -37,6 +37,7 @@ _TERM_FIELDS = (
     "kind",
     "atoms",
     "classes",
+    "order",
     "tier",
     "score",
     "form",
@@ -70,6 +71,7 @@ def schema() -> pa.Schema:
             ("kind", pa.string()),
             ("atoms", pa.list_(pa.int32())),
             ("classes", pa.list_(pa.string())),
+            ("order", pa.string()),
             ("tier", pa.string()),
             ("score", pa.float64()),
             ("form", pa.string()),
@@ -98,23 +100,37 @@ def schema() -> pa.Schema:
     return pa.schema(fields)
 
 
-def _term_row(term: Mapping[str, Any]) -> dict[str, Any]:
+def _term_row(term: Mapping[str, Any], memo: dict[int, str | None]) -> dict[str, Any]:
     extra = {k: v for k, v in term.items() if k not in _TERM_FIELDS}
     return {
         "kind": term.get("kind"),
         "atoms": list(term.get("atoms") or ()),
         "classes": list(term.get("classes") or ()),
+        "order": term.get("order"),
         "tier": term.get("tier"),
         "score": term.get("score"),
         "form": term.get("form"),
-        "values_json": _dumps(term.get("values")),
-        "provenance_json": _dumps(term.get("provenance")),
+        "values_json": _dumps_shared(term.get("values"), memo),
+        "provenance_json": _dumps_shared(term.get("provenance"), memo),
         "reason": term.get("reason"),
         "extra_json": _dumps(extra) if extra else None,
     }
 
 
-def _row(molecule: Mapping[str, Any]) -> dict[str, Any]:
+def _dumps_shared(value: Any, memo: dict[int, str | None]) -> str | None:
+    """:func:`_dumps` once per object: terms resolved by the same entry share their values and
+    provenance dicts (see ``ffaudit.audit``). ``memo`` lives for one table, while every object is alive."""
+    key = id(value)
+    text = memo.get(key, _MISSING)
+    if text is _MISSING:
+        text = memo[key] = _dumps(value)
+    return text  # type: ignore[return-value]
+
+
+_MISSING: Any = object()
+
+
+def _row(molecule: Mapping[str, Any], memo: dict[int, str | None]) -> dict[str, Any]:
     source = molecule.get("source") or {}
     row: dict[str, Any] = {name: molecule.get(name) for name, _ in _SCALARS}
     extra = {k: v for k, v in molecule.items() if k not in _KNOWN}
@@ -127,7 +143,7 @@ def _row(molecule: Mapping[str, Any]) -> dict[str, Any]:
         score_term_json=_dumps(molecule.get("score_term")),
         findings_json=_dumps(molecule.get("findings") or []),
         meta_json=_dumps(molecule.get("meta")),
-        terms=[_term_row(t) for t in molecule.get("terms") or ()],
+        terms=[_term_row(t, memo) for t in molecule.get("terms") or ()],
         extra_json=_dumps(extra) if extra else None,
     )
     return row
@@ -135,7 +151,8 @@ def _row(molecule: Mapping[str, Any]) -> dict[str, Any]:
 
 def molecules_to_table(molecules: Sequence[Mapping[str, Any]]) -> pa.Table:
     """The molecules as a table of :func:`schema`. Raises ``ImportError`` without pyarrow."""
-    return pa.Table.from_pylist([_row(m) for m in molecules], schema=schema())
+    memo: dict[int, str | None] = {}
+    return pa.Table.from_pylist([_row(m, memo) for m in molecules], schema=schema())
 
 
 def molecules_to_parquet(molecules: Sequence[Mapping[str, Any]]) -> bytes:

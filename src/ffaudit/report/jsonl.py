@@ -33,6 +33,11 @@ class JsonlReporter:
         """Write ``molecule`` as one line. Raises ``ValueError`` / ``TypeError`` as :func:`dump_compact`."""
         self.out.write(dump_compact(molecule) + "\n")
 
+    def add_lines(self, lines: str) -> None:
+        """Write molecules already encoded, one :func:`dump_compact` line each with its newline (what
+        workers return with ``ChunkOptions(encode=True)``)."""
+        self.out.write(lines)
+
     def finish(self, summary: Mapping[str, Any]) -> None:
         """Flush the stream; the summary is not part of the JSONL output."""
         self.out.flush()
