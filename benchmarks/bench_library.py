@@ -154,6 +154,16 @@ def main() -> int:
     parser.add_argument(
         "--big", action="store_true", help="also run 1,000,000 records on all cores"
     )
+    parser.add_argument(
+        "--big-records",
+        type=int,
+        default=1_000_000,
+        metavar="N",
+        help="records of the --big run (default 1,000,000)",
+    )
+    parser.add_argument(
+        "--big-only", action="store_true", help="with --big: skip the 5K/50K measurements"
+    )
     args = parser.parse_args()
 
     lines = smiles_lines(args.records)
@@ -163,91 +173,89 @@ def main() -> int:
     print(f"input: {NCI.name}, {len(lines)} molecules; best of {args.repeats} rounds")
     print(f"load average before: {load_average()}")
     with tempfile.TemporaryDirectory() as tmp:
-        base = repeated(lines, 1, tmp)
-        t_mmff = t_one = t_problems = float("inf")
-        n = 0
-        for _ in range(max(1, args.repeats)):
-            t_mmff = min(t_mmff, mmff_preflight(lines))
-            seconds, n = ffaudit_run(base, "inprocess", 1)
-            t_one = min(t_one, seconds)
-            t_problems = min(t_problems, ffaudit_run(base, "inprocess", 1, terms="problems")[0])
-        t_reference, _ = ffaudit_run(base, "inprocess", 1, reference=True)  # one round: it is slow
-        print(f"RDKit MMFF94 pre-flight, 1 core:          {len(lines) / t_mmff:8.0f} molecules/s")
-        print(f"ffaudit audit (--terms all), 1 core:      {n / t_one:8.0f} molecules/s")
-        print(f"ffaudit audit (--terms problems), 1 core: {n / t_problems:8.0f} molecules/s")
-        print(f"reference path (--terms all), 1 core:     {n / t_reference:8.0f} molecules/s")
-        print(f"ratio ffaudit / MMFF94 time, 1 core:      {t_one / t_mmff:8.2f}  (terms all)")
-        print(
-            f"ratio ffaudit / MMFF94 time, 1 core:      {t_problems / t_mmff:8.2f}  (terms problems)"
-        )
-        print(f"ratio reference path / MMFF94 time:       {t_reference / t_mmff:8.2f}  (terms all)")
-        print(f"fast path speed-up over reference path:   {t_reference / t_one:8.2f}x")
-        # whole CLI runs (set loading, workers' start-up and writing included), one after another
-        report = ["--format", "jsonl", "--terms", "all", "--fail-on", "never", "-o", os.devnull]
-        engines: list[tuple[str, list[str]]] = [("1 core", ["--jobs", "1"])]
-        engines.append(("2 processes", ["--jobs", "2"]))
-        if not args.no_dask:
-            engines.append(("Dask LocalCluster (2)", ["--scheduler", "local", "--jobs", "2"]))
-        for mode, output in (
-            ("JSONL report", report),
-            ("output directory", ["--terms", "all", "--fail-on", "never", "--no-progress"]),
-        ):
-            walls: dict[str, float] = {}
-            for label, engine in engines:
-                extra = list(output)
-                if mode == "output directory":
-                    extra += ["-o", os.path.join(tmp, f"dir-{len(walls)}") + "/"]
-                walls[label], _ = peak_rss_mib(["audit", base, *extra, *engine])
-            one = walls["1 core"]
-            print(
-                f"CLI, {mode}, 1 core: {one:6.1f} s, ratio to MMFF94 pre-flight {one / t_mmff:.2f}"
-            )
-            for label, wall in walls.items():
-                if label != "1 core":
-                    print(f"CLI, {mode}, speed-up with {label}: {one / wall:5.2f}x ({wall:.1f} s)")
-        x10 = repeated(lines, 10, tmp)
-        common = [
-            "--format",
-            "jsonl",
-            "--terms",
-            "problems",
-            "--fail-on",
-            "never",
-            "-o",
-            os.devnull,
-        ]
-        wall5, rss5 = peak_rss_mib(["audit", base, *common, "--jobs", "1"])
-        wall50, rss50 = peak_rss_mib(["audit", x10, *common, "--jobs", "1"])
-        print(
-            f"CLI, JSONL --terms problems, {len(lines)} records, 1 core:  {wall5:6.1f} s, "
-            f"peak RSS {rss5:7.1f} MiB"
-        )
-        print(
-            f"CLI, JSONL --terms problems, {10 * len(lines)} records, 1 core: {wall50:6.1f} s, "
-            f"peak RSS {rss50:7.1f} MiB  (RSS ratio {rss50 / rss5:.3f})"
-        )
+        if not args.big_only:
+            small(args, lines, tmp)
         if args.big:
-            times = max(1, 1_000_000 // len(lines))
-            big = repeated(lines, times, tmp)
-            out = os.path.join(tmp, "big-run") + "/"
-            wall, rss = peak_rss_mib(
-                [
-                    "audit",
-                    big,
-                    "--terms",
-                    "problems",
-                    "--fail-on",
-                    "never",
-                    "-o",
-                    out,
-                    "--no-progress",
-                ]
-            )
-            print(
-                f"{times * len(lines)} records, all cores, output directory: {wall:.0f} s, peak RSS {rss:.1f} MiB"
-            )
+            big_run(args.big_records, lines, tmp)
     print(f"load average after: {load_average()}")
     return 0
+
+
+def small(args: argparse.Namespace, lines: list[str], tmp: str) -> None:
+    """The 5K measurements: one core against MMFF94, 2 processes, Dask, RSS at 5K and 50K."""
+    base = repeated(lines, 1, tmp)
+    t_mmff = t_one = t_problems = float("inf")
+    n = 0
+    for _ in range(max(1, args.repeats)):
+        t_mmff = min(t_mmff, mmff_preflight(lines))
+        seconds, n = ffaudit_run(base, "inprocess", 1)
+        t_one = min(t_one, seconds)
+        t_problems = min(t_problems, ffaudit_run(base, "inprocess", 1, terms="problems")[0])
+    t_reference, _ = ffaudit_run(base, "inprocess", 1, reference=True)  # one round: it is slow
+    print(f"RDKit MMFF94 pre-flight, 1 core:          {len(lines) / t_mmff:8.0f} molecules/s")
+    print(f"ffaudit audit (--terms all), 1 core:      {n / t_one:8.0f} molecules/s")
+    print(f"ffaudit audit (--terms problems), 1 core: {n / t_problems:8.0f} molecules/s")
+    print(f"reference path (--terms all), 1 core:     {n / t_reference:8.0f} molecules/s")
+    print(f"ratio ffaudit / MMFF94 time, 1 core:      {t_one / t_mmff:8.2f}  (terms all)")
+    print(f"ratio ffaudit / MMFF94 time, 1 core:      {t_problems / t_mmff:8.2f}  (terms problems)")
+    print(f"ratio reference path / MMFF94 time:       {t_reference / t_mmff:8.2f}  (terms all)")
+    print(f"fast path speed-up over reference path:   {t_reference / t_one:8.2f}x")
+    # whole CLI runs (set loading, workers' start-up and writing included), one after another
+    report = ["--format", "jsonl", "--terms", "all", "--fail-on", "never", "-o", os.devnull]
+    engines: list[tuple[str, list[str]]] = [("1 core", ["--jobs", "1"])]
+    engines.append(("2 processes", ["--jobs", "2"]))
+    if not args.no_dask:
+        engines.append(("Dask LocalCluster (2)", ["--scheduler", "local", "--jobs", "2"]))
+    for mode, output in (
+        ("JSONL report", report),
+        ("output directory", ["--terms", "all", "--fail-on", "never", "--no-progress"]),
+    ):
+        walls: dict[str, float] = {}
+        for label, engine in engines:
+            extra = list(output)
+            if mode == "output directory":
+                extra += ["-o", os.path.join(tmp, f"dir-{len(walls)}") + "/"]
+            walls[label], _ = peak_rss_mib(["audit", base, *extra, *engine])
+        one = walls["1 core"]
+        print(f"CLI, {mode}, 1 core: {one:6.1f} s, ratio to MMFF94 pre-flight {one / t_mmff:.2f}")
+        for label, wall in walls.items():
+            if label != "1 core":
+                print(f"CLI, {mode}, speed-up with {label}: {one / wall:5.2f}x ({wall:.1f} s)")
+    x10 = repeated(lines, 10, tmp)
+    common = [
+        "--format",
+        "jsonl",
+        "--terms",
+        "problems",
+        "--fail-on",
+        "never",
+        "-o",
+        os.devnull,
+    ]
+    wall5, rss5 = peak_rss_mib(["audit", base, *common, "--jobs", "1"])
+    wall50, rss50 = peak_rss_mib(["audit", x10, *common, "--jobs", "1"])
+    print(
+        f"CLI, JSONL --terms problems, {len(lines)} records, 1 core:  {wall5:6.1f} s, "
+        f"peak RSS {rss5:7.1f} MiB"
+    )
+    print(
+        f"CLI, JSONL --terms problems, {10 * len(lines)} records, 1 core: {wall50:6.1f} s, "
+        f"peak RSS {rss50:7.1f} MiB  (RSS ratio {rss50 / rss5:.3f})"
+    )
+
+
+def big_run(records: int, lines: list[str], tmp: str) -> None:
+    """Wall time and peak RSS of ``records`` records (the file repeated), all cores, output directory."""
+    times = max(1, records // len(lines))
+    big = repeated(lines, times, tmp)
+    out = os.path.join(tmp, "big-run") + "/"
+    wall, rss = peak_rss_mib(
+        ["audit", big, "--terms", "problems", "--fail-on", "never", "-o", out, "--no-progress"]
+    )
+    print(
+        f"{times * len(lines)} records, all cores, output directory: {wall:.0f} s "
+        f"({times * len(lines) / wall:.0f} records/s), peak RSS {rss:.1f} MiB"
+    )
 
 
 if __name__ == "__main__":
