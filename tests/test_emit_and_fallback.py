@@ -8,6 +8,7 @@ import pytest
 
 from ffaudit.audit import AuditContext
 from ffaudit.emit import FragmentBuilder
+from ffaudit.findings import Severity
 from ffaudit.paramset.load import load_parameter_set
 from ffaudit.read.open import iter_records
 
@@ -94,3 +95,21 @@ def test_emitted_fragment_round_trip_covers_the_run(base, records, audits, tmp_p
             assert any(
                 t["provenance"] and t["provenance"].get("estimated_entry") for t in d["terms"]
             )
+
+
+def test_entries_marked_estimated_in_the_set_are_flagged(tmp_path):
+    # tests/data/sets/minimal.yaml marks its c4-c3 bond `estimated: true`; acetone has two such bonds
+    # (each methyl carbon to the carbonyl carbon), methanol none. Both audit paths must say so.
+    from ffaudit.engine.batch import audit_records
+
+    pset = load_parameter_set(str(ROOT / "tests" / "data" / "sets" / "minimal.yaml"))
+    context = AuditContext(pset)
+    library = tmp_path / "two.smi"
+    library.write_text("CC(C)=O acetone\nCO methanol\n", encoding="utf-8")
+    records = list(iter_records(str(library)))
+    for audits in ([context.audit_record(r) for r in records], list(audit_records(context, records))):
+        acetone, methanol = audits
+        (finding,) = [f for f in acetone.findings if f.code == "estimated-entry"]
+        assert finding.severity is Severity.WARNING and finding.message.startswith("2 terms")
+        assert finding.molecule == "acetone" and finding.record == 1
+        assert not [f for f in methanol.findings if f.code == "estimated-entry"]

@@ -242,6 +242,24 @@ def resolution_dict(r: Resolution, pset: ParameterSet) -> dict[str, Any]:
     return out
 
 
+def estimated_entry_finding(resolutions: Iterable[Resolution]) -> Finding | None:
+    """The warning for terms resolved from entries the set itself marks ``estimated: true``; None if none."""
+    unreviewed = sum(
+        1
+        for r in resolutions
+        if r.entry is not None and r.entry.estimated and r.tier in RESOLVED_FROM_SET
+    )
+    if not unreviewed:
+        return None
+    return Finding(
+        code="estimated-entry",
+        severity=Severity.WARNING,
+        message=f"{unreviewed} terms use entries the set marks as estimated (not reviewed)",
+        cause="estimated-entry",
+        hint="review the entries marked 'estimated: true' before production simulations",
+    )
+
+
 class AuditContext:
     """Everything compiled once per parameter set: class rules, lookup index, which kinds to enumerate.
 
@@ -292,22 +310,9 @@ class AuditContext:
                 else f
                 for f in findings
             ]
-        unreviewed = sum(
-            1
-            for r in resolutions
-            if r.entry is not None and r.entry.estimated and r.tier in RESOLVED_FROM_SET
-        )
-        if unreviewed:
-            findings = [
-                *findings,
-                Finding(
-                    code="estimated-entry",
-                    severity=Severity.WARNING,
-                    message=f"{unreviewed} terms use entries the set marks as estimated (not reviewed)",
-                    cause="estimated-entry",
-                    hint="review the entries marked 'estimated: true' before production simulations",
-                ),
-            ]
+        unreviewed = estimated_entry_finding(resolutions)
+        if unreviewed is not None:
+            findings = [*findings, unreviewed]
         findings = [f.with_(molecule=record.name, record=record.record) for f in findings]
         status, reason = decide_status(resolutions, findings)
         return MoleculeAudit(

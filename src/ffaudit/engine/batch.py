@@ -34,7 +34,7 @@ import numpy as np
 from numpy.typing import NDArray
 from rdkit import Chem, rdBase
 
-from ffaudit.audit import AuditContext, MoleculeAudit, decide_status
+from ffaudit.audit import AuditContext, MoleculeAudit, decide_status, estimated_entry_finding
 from ffaudit.findings import Finding, Severity
 from ffaudit.molbatch import (
     BondCodes,
@@ -53,7 +53,6 @@ from ffaudit.perceive.propose import propose_class
 from ffaudit.read.record import Record
 from ffaudit.resolve.driver import Resolution
 from ffaudit.resolve.estimate import MoleculeTypes
-from ffaudit.score import RESOLVED_FROM_SET
 from ffaudit.terms import Term
 from ffaudit.terms_batch import NO_QUALIFIER, KindTerms, enumerate_batch
 
@@ -460,21 +459,9 @@ class FastAuditor:
                 )
                 for f in findings
             ]
-        unreviewed = sum(
-            1
-            for r in resolved
-            if r.entry is not None and r.entry.estimated and r.tier in RESOLVED_FROM_SET
-        )
-        if unreviewed:
-            findings.append(
-                Finding(
-                    code="estimated-entry",
-                    severity=Severity.WARNING,
-                    message=f"{unreviewed} terms use entries the set marks as estimated (not reviewed)",
-                    cause="estimated-entry",
-                    hint="review the entries marked 'estimated: true' before production simulations",
-                )
-            )
+        unreviewed = estimated_entry_finding(resolved)
+        if unreviewed is not None:
+            findings.append(unreviewed)
         findings = [f.with_(molecule=record.name, record=record.record) for f in findings]
         status, reason = decide_status(resolved, findings)
         return MoleculeAudit(
