@@ -348,7 +348,10 @@ def test_dask_worker_killed_mid_run_loses_and_duplicates_nothing(cluster, contex
     killed = None
     deadline = time.monotonic() + 60
     while killed is None and time.monotonic() < deadline:
+        # a worker computing a chunk, or else one holding results not yet fetched (with the fast
+        # path the chunks in flight may all be done before this loop looks): either loss is mid-run
         busy = {addr for addr, keys in client.processing().items() if keys}
+        busy = busy or {addr for addr, keys in client.has_what().items() if keys}
         pids = {addr: pid for addr, pid in client.run(os.getpid).items() if addr in busy}
         if pids:
             # every worker is a process this test started; prefer the extra one
@@ -390,6 +393,33 @@ def test_process_worker_killed_mid_run_loses_and_duplicates_nothing(context, ref
     assert backend.restarts >= 1
     assert indices == list(range(200))
     assert text == reference_jsonl
+
+
+def test_a_pending_chunk_whose_worker_died_unnoticed_counts_as_a_break(context, monkeypatch):
+    # A worker killed while it holds the pool's result queue can leave a future pending for ever
+    # (the pool never marks it broken). The wait polls the workers and turns that into the break.
+    from concurrent.futures import Future
+    from concurrent.futures.process import BrokenProcessPool
+
+    import ffaudit.engine.processes as processes
+
+    monkeypatch.setattr(processes, "POLL_SECONDS", 0.05)
+    backend = ProcessBackend(context, ChunkOptions(), jobs=1)
+    try:
+        never: Future[object] = Future()  # nothing will ever complete it
+        with pytest.raises(TimeoutError):  # all workers alive: the wait keeps waiting
+            never.result(timeout=0.2)
+        assert not backend._lost_worker()
+
+        class Dead:
+            exitcode = -signal.SIGKILL
+
+        monkeypatch.setattr(backend._pool, "_processes", {1: Dead()})
+        with pytest.raises(BrokenProcessPool, match="died while chunks were pending"):
+            backend._result(never)  # type: ignore[arg-type]
+    finally:
+        monkeypatch.undo()
+        backend.close()
 
 
 # --------------------------------------------------------------------------- SIGKILL and --resume

@@ -30,6 +30,11 @@ from ffaudit.engine.work import run_chunk
 MAX_RESTARTS = 3
 """How many times one chunk may lose its worker before the run gives up."""
 
+POLL_SECONDS = 2.0
+"""How often a wait for a chunk checks that every worker is still alive. The pool itself notices a dead
+worker almost always, but a worker killed while it holds the pool's result queue can leave its futures
+pending for ever; the check turns that into the same break (and recovery)."""
+
 _WORKER_CONTEXT: AuditContext | None = None
 _WORKER_OPTIONS: ChunkOptions | None = None
 
@@ -109,7 +114,7 @@ class ProcessBackend:
         while True:
             _, current = self._pending[job.number]
             try:
-                result = current.result()
+                result = self._result(current)
             except BrokenProcessPool:
                 self._recover(job)
                 continue
@@ -124,6 +129,29 @@ class ProcessBackend:
             self._restarts.pop(job.number, None)
             return result
 
+    def _result(self, future: Future[ChunkResult]) -> ChunkResult:
+        """``future.result()``, raising ``BrokenProcessPool`` when a worker has died meanwhile."""
+        while True:
+            try:
+                return future.result(timeout=POLL_SECONDS)
+            except TimeoutError:
+                if self._lost_worker():
+                    raise BrokenProcessPool("a worker process died while chunks were pending") from None
+
+    def _lost_worker(self) -> bool:
+        processes = getattr(self._pool, "_processes", None) or {}
+        return any(process.exitcode is not None for process in list(processes.values()))
+
+    def _discard_pool(self) -> None:
+        """Shut the current pool down without waiting on it (it may be wedged) and end its workers."""
+        processes = list((getattr(self._pool, "_processes", None) or {}).values())
+        self._pool.shutdown(wait=False, cancel_futures=True)
+        for process in processes:
+            if process.exitcode is None:
+                process.kill()
+        for process in processes:
+            process.join(timeout=10)
+
     def _recover(self, job: ChunkJob) -> None:
         """Replace the broken pool and submit again every chunk that has not come back."""
         count = self._restarts.get(job.number, 0) + 1
@@ -133,7 +161,7 @@ class ProcessBackend:
                 f"chunk {job.number} (records {job.first}..{job.last}): its worker process died "
                 f"{count} times; a record in it may crash RDKit (run it with --jobs 1 to see which)"
             )
-        self._pool.shutdown(wait=True, cancel_futures=True)
+        self._discard_pool()
         self._pool = self._start()
         self.restarts += 1
         waiting = sorted(self._pending.values(), key=lambda item: item[0].number)
