@@ -260,6 +260,39 @@ def estimated_entry_finding(resolutions: Iterable[Resolution]) -> Finding | None
     )
 
 
+def assemble_audit(
+    record: Record,
+    *,
+    smiles: str | None,
+    assignments: tuple[Assignment, ...],
+    resolutions: tuple[Resolution, ...],
+    findings: Iterable[Finding],
+    fragments: int,
+    elements: tuple[str, ...],
+    proposed: tuple[ProposedClass, ...],
+) -> MoleculeAudit:
+    """The audit of an audited record from its parts (both audit paths end here): adds the
+    estimated-entry warning, stamps every finding with the molecule and record, decides the status."""
+    notes = list(findings)
+    unreviewed = estimated_entry_finding(resolutions)
+    if unreviewed is not None:
+        notes.append(unreviewed)
+    notes = [f.with_(molecule=record.name, record=record.record) for f in notes]
+    status, reason = decide_status(resolutions, notes)
+    return MoleculeAudit(
+        record=record,
+        status=status,
+        reason=reason,
+        smiles=smiles,
+        assignments=assignments,
+        resolutions=resolutions,
+        findings=tuple(notes),
+        fragments=fragments,
+        elements=elements,
+        proposed=proposed,
+    )
+
+
 class AuditContext:
     """Everything compiled once per parameter set: class rules, lookup index, which kinds to enumerate.
 
@@ -310,19 +343,12 @@ class AuditContext:
                 else f
                 for f in findings
             ]
-        unreviewed = estimated_entry_finding(resolutions)
-        if unreviewed is not None:
-            findings = [*findings, unreviewed]
-        findings = [f.with_(molecule=record.name, record=record.record) for f in findings]
-        status, reason = decide_status(resolutions, findings)
-        return MoleculeAudit(
-            record=record,
-            status=status,
-            reason=reason,
+        return assemble_audit(
+            record,
             smiles=smiles,
             assignments=tuple(assignments),
             resolutions=resolutions,
-            findings=tuple(findings),
+            findings=findings,
             fragments=len(Chem.GetMolFrags(molh)),
             elements=tuple(a.GetSymbol() for a in molh.GetAtoms()),
             proposed=proposed,

@@ -34,7 +34,7 @@ import numpy as np
 from numpy.typing import NDArray
 from rdkit import Chem, rdBase
 
-from ffaudit.audit import AuditContext, MoleculeAudit, decide_status, estimated_entry_finding
+from ffaudit.audit import AuditContext, MoleculeAudit, assemble_audit
 from ffaudit.findings import Finding, Severity
 from ffaudit.molbatch import (
     BondCodes,
@@ -459,19 +459,12 @@ class FastAuditor:
                 )
                 for f in findings
             ]
-        unreviewed = estimated_entry_finding(resolved)
-        if unreviewed is not None:
-            findings.append(unreviewed)
-        findings = [f.with_(molecule=record.name, record=record.record) for f in findings]
-        status, reason = decide_status(resolved, findings)
-        return MoleculeAudit(
-            record=record,
-            status=status,
-            reason=reason,
+        return assemble_audit(
+            record,
             smiles=smiles,
             assignments=tuple(assignments),
             resolutions=resolved,
-            findings=tuple(findings),
+            findings=findings,
             fragments=done.fragments[m],
             elements=elements,
             proposed=proposed,
