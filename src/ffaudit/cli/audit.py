@@ -317,10 +317,11 @@ def _run_report(
             encoded = isinstance(reporter, JsonlReporter)
             for chunk in audit(chunk_jobs, ChunkOptions(terms=terms, encode=encoded)):
                 summary.merge(chunk.summary)
-                if encoded:
+                if isinstance(reporter, JsonlReporter):
                     reporter.add_lines(chunk.jsonl or "")
-                for molecule in chunk.molecules or ():
-                    reporter.add(molecule)
+                else:
+                    for molecule in chunk.molecules or ():
+                        reporter.add(molecule)
                 bar.advance(chunk.count)
         result = summary.to_dict()
         reporter.finish(result)

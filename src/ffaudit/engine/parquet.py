@@ -121,13 +121,9 @@ def _dumps_shared(value: Any, memo: dict[int, str | None]) -> str | None:
     """:func:`_dumps` once per object: terms resolved by the same entry share their values and
     provenance dicts (see ``ffaudit.audit``). ``memo`` lives for one table, while every object is alive."""
     key = id(value)
-    text = memo.get(key, _MISSING)
-    if text is _MISSING:
-        text = memo[key] = _dumps(value)
-    return text  # type: ignore[return-value]
-
-
-_MISSING: Any = object()
+    if key not in memo:
+        memo[key] = _dumps(value)
+    return memo[key]
 
 
 def _row(molecule: Mapping[str, Any], memo: dict[int, str | None]) -> dict[str, Any]:
