@@ -8,7 +8,7 @@ Outside check data:
 "Identical" means: equal MoleculeAudit objects (dataclass equality: record, status, reason, SMILES, every
 class assignment, every term with its atoms, classes and qualifiers, every resolution with tier, entry,
 score, reason and substitutions, findings, fragments, elements, proposals) and, on samples, equal to_dict()
-output.
+output, and the fast path's to_json() text equal to the reference's to_dict() encoded by the JSONL encoder.
 """
 
 from __future__ import annotations
@@ -39,6 +39,7 @@ from ffaudit.perceive.classes import ClassRules
 from ffaudit.read.open import iter_records
 from ffaudit.read.record import Record
 from ffaudit.read.smiles import parse_smiles
+from ffaudit.report.jsonl import dump_compact
 
 NCI_5K = os.path.join(RDConfig.RDDataDir, "NCI", "first_5K.smi")
 
@@ -93,6 +94,12 @@ def _assert_identical(
         assert a == b, _first_difference(a, b)
         if n % dict_every == 0 or a.status != "covered":
             assert a.to_dict(pset, "all") == b.to_dict(pset, "all"), a.record.index
+            # the JSON text made straight from the fast path's term table is the reference's dict encoded
+            for terms in ("all", "problems"):
+                assert b.to_json(pset, terms) == dump_compact(a.to_dict(pset, terms)), (
+                    a.record.index,
+                    terms,
+                )
 
 
 # --- NCI first_5K --------------------------------------------------------------------------------------

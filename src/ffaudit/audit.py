@@ -18,20 +18,23 @@ from array import array
 from collections import Counter
 from collections.abc import Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Any
+from functools import cached_property
+from typing import Any, cast
 
 from rdkit import Chem
 
 from ffaudit.findings import Finding, Severity
 from ffaudit.paramset.canonical import UNASSIGNED
-from ffaudit.paramset.model import KINDS, Entry, ParameterSet
+from ffaudit.paramset.model import KINDS, ParameterSet
 from ffaudit.perceive.classes import Assignment, ClassRules
 from ffaudit.perceive.propose import ProposedClass, propose_class
 from ffaudit.read.record import Record
 from ffaudit.resolve.driver import Resolution, Resolver
 from ffaudit.resolve.estimate import MoleculeTypes
 from ffaudit.score import RESOLVED_FROM_SET, TIERS
+from ffaudit.termdict import rounded, term_ref
 from ffaudit.terms import Term, enumerate_terms
+from ffaudit.termtable import TermTable
 
 STATUSES: tuple[str, ...] = ("covered", "estimated", "incomplete", "unreadable")
 TERMS_MODES: tuple[str, ...] = ("all", "problems", "none")
@@ -53,22 +56,6 @@ def cautions_for(pset: ParameterSet) -> list[str]:
             "do not use it for production simulations.",
         )
     return notes
-
-
-def _round(value: float) -> float:
-    return float(f"{value:.6g}")
-
-
-def entry_values(entry: Entry) -> dict[str, Any]:
-    """An entry's values as plain JSON (internal units; see :mod:`ffaudit.paramset.model`)."""
-    if entry.kind == "dihedral":
-        return {
-            "terms": [
-                {"periodicity": t.periodicity, "phase": _round(t.phase), "k": _round(t.k)}
-                for t in entry.fourier
-            ]
-        }
-    return {name: _round(v) for name, v in entry.values.items()}
 
 
 @dataclass
@@ -109,30 +96,41 @@ class MoleculeAudit:
     reason: str | None
     smiles: str | None = None
     assignments: tuple[Assignment, ...] = ()
-    resolutions: tuple[Resolution, ...] = ()
+    resolutions: Sequence[Resolution] = ()
     findings: tuple[Finding, ...] = ()
     fragments: int = 0
     elements: tuple[str, ...] = ()
     proposed: tuple[ProposedClass, ...] = ()
 
+    def __post_init__(self) -> None:
+        # the reference path and hand-made audits give a plain sequence
+        if not isinstance(self.resolutions, TermTable):
+            object.__setattr__(self, "resolutions", TermTable.of(self.resolutions))
+
+    @property
+    def table(self) -> TermTable:
+        """The resolutions as a :class:`TermTable` (always: ``__post_init__`` wraps any sequence)."""
+        return cast(TermTable, self.resolutions)
+
     @property
     def counts(self) -> TierCounts:
         counts = TierCounts()
-        for (kind, tier), n in Counter((r.term.kind, r.tier) for r in self.resolutions).items():
+        for (kind, tier), n in self.table.tier_counts().items():
             counts.add(kind, tier, n)
         return counts
 
-    @property
+    @cached_property
     def score_resolution(self) -> Resolution | None:
         """The term that sets the molecule's score (the lowest; first in term order on ties)."""
-        return min(self.resolutions, key=lambda r: r.score, default=None)
+        return self.table.lowest()
 
     @property
     def score(self) -> float | None:
         worst = self.score_resolution
         return None if worst is None else worst.score
 
-    def to_dict(self, pset: ParameterSet, terms: str = "all") -> dict[str, Any]:
+    def _head(self) -> dict[str, Any]:
+        """The molecule dict without its ``terms`` (which come last)."""
         rec = self.record
         worst = self.score_resolution
         out: dict[str, Any] = {
@@ -143,7 +141,7 @@ class MoleculeAudit:
             "status": self.status,
             "reason": self.reason,
             "score": None if worst is None else worst.score,
-            "score_term": None if worst is None else _term_ref(worst.term),
+            "score_term": None if worst is None else term_ref(worst.term),
             "atoms": len(self.assignments),
             "fragments": self.fragments,
             "atom_classes": [a.class_id for a in self.assignments],
@@ -154,100 +152,29 @@ class MoleculeAudit:
             out["proposed_classes"] = [p.to_dict() for p in self.proposed]
         if rec.meta:
             out["meta"] = dict(rec.meta)
-        if terms != "none":
-            out["terms"] = [
-                resolution_dict(r, pset)
-                for r in self.resolutions
-                if terms == "all" or r.tier != "exact"
-            ]
-        else:
-            out["terms"] = []
         return out
 
+    def to_dict(self, pset: ParameterSet, terms: str = "all") -> dict[str, Any]:
+        """The molecule object of the output contract; ``terms`` (all, problems, none) picks the listed terms."""
+        out = self._head()
+        out["terms"] = self.table.term_dicts(pset, terms)
+        return out
 
-def _term_ref(term: Term) -> dict[str, Any]:
-    return {"kind": term.kind, "atoms": list(term.atoms), "classes": list(term.classes)}
+    def to_json(self, pset: ParameterSet, terms: str = "all") -> str:
+        """One-line JSON text of :meth:`to_dict`, byte for byte as the JSONL encoder writes it, made without
+        building the term dicts. Raises ``ValueError`` for a NaN or infinite value."""
+        from ffaudit.report.jsonl import dump_compact
 
-
-def provenance(entry: Entry, pset: ParameterSet) -> dict[str, Any]:
-    """Where an entry's value came from: file and line, source key and its citation."""
-    prov: dict[str, Any] = {
-        "set": f"{pset.header.name} {pset.header.version}",
-        "file": entry.location.path,
-        "line": entry.location.line,
-        "entry": list(entry.classes),
-        "source": entry.source,
-    }
-    if entry.bond_order is not None:
-        prov["order"] = entry.bond_order
-    if entry.in_ring is not None:
-        prov["ring"] = entry.in_ring
-    source = pset.sources.get(entry.source) if entry.source else None
-    if source is not None:
-        prov["citation"] = source.citation
-    if entry.estimated:
-        prov["estimated_entry"] = True
-    return prov
+        head = dump_compact(self._head())
+        return head[:-1] + ',"terms":' + self.table.terms_json(pset, terms) + "}"
 
 
-_ENTRY_CACHE: dict[tuple[int, int, str], tuple[Entry, ParameterSet, dict[str, Any], dict[str, Any]]] = {}
-_ENTRY_CACHE_LIMIT = 100_000
-
-
-def _cached_entry_dicts(
-    entry: Entry, pset: ParameterSet, tier: str
-) -> tuple[dict[str, Any], dict[str, Any]]:
-    """Values and provenance of a set entry, serialised once per (entry, set, tier).
-
-    The cache keeps the entry and set alive with their ids, so an id is never reused while cached.
-    Callers copy nothing: the returned dicts are shared and must not be mutated.
-    """
-    key = (id(entry), id(pset), tier)
-    hit = _ENTRY_CACHE.get(key)
-    if hit is not None and hit[0] is entry and hit[1] is pset:
-        return hit[2], hit[3]
-    values = entry_values(entry)
-    prov = provenance(entry, pset)
-    if tier == "analogy":
-        prov = {"estimated": True, "donor": prov}
-    if len(_ENTRY_CACHE) >= _ENTRY_CACHE_LIMIT:
-        _ENTRY_CACHE.clear()
-    _ENTRY_CACHE[key] = (entry, pset, values, prov)
-    return values, prov
-
-
-def resolution_dict(r: Resolution, pset: ParameterSet) -> dict[str, Any]:
-    """One listed term as the audit output shows it (``audit-molecule.schema.json``, ``term``)."""
-    out = _term_ref(r.term)
-    if r.term.bond_order is not None:  # bond, charge increment: the bond; dihedral: the central bond
-        out["order"] = r.term.bond_order
-    out["tier"] = r.tier
-    out["score"] = r.score
-    if r.entry is not None and r.tier != "estimate":
-        out["form"] = r.entry.form
-        out["values"], out["provenance"] = _cached_entry_dicts(r.entry, pset, r.tier)
-    elif r.entry is not None:  # a rule estimate: values and inputs belong to this term alone
-        out["form"] = r.entry.form
-        out["values"] = entry_values(r.entry)
-        out["provenance"] = {"estimated": True, **r.details}
-    else:
-        out["form"] = None
-        out["values"] = {}
-        out["provenance"] = None
-    if r.substitutions:
-        out["substitutions"] = [
-            {"position": i, "from": old, "to": new} for i, old, new in r.substitutions
-        ]
-    out["reason"] = r.reason
-    return out
-
-
-def estimated_entry_finding(resolutions: Iterable[Resolution]) -> Finding | None:
+def estimated_entry_finding(resolutions: Sequence[Resolution]) -> Finding | None:
     """The warning for terms resolved from entries the set itself marks ``estimated: true``; None if none."""
     unreviewed = sum(
-        1
-        for r in resolutions
-        if r.entry is not None and r.entry.estimated and r.tier in RESOLVED_FROM_SET
+        n
+        for _, tier, entry, _, n in _table(resolutions).groups()
+        if entry is not None and entry.estimated and tier in RESOLVED_FROM_SET
     )
     if not unreviewed:
         return None
@@ -265,7 +192,7 @@ def assemble_audit(
     *,
     smiles: str | None,
     assignments: tuple[Assignment, ...],
-    resolutions: tuple[Resolution, ...],
+    resolutions: Sequence[Resolution],
     findings: Iterable[Finding],
     fragments: int,
     elements: tuple[str, ...],
@@ -273,19 +200,20 @@ def assemble_audit(
 ) -> MoleculeAudit:
     """The audit of an audited record from its parts (both audit paths end here): adds the
     estimated-entry warning, stamps every finding with the molecule and record, decides the status."""
+    table = _table(resolutions)
     notes = list(findings)
-    unreviewed = estimated_entry_finding(resolutions)
+    unreviewed = estimated_entry_finding(table)
     if unreviewed is not None:
         notes.append(unreviewed)
     notes = [f.with_(molecule=record.name, record=record.record) for f in notes]
-    status, reason = decide_status(resolutions, notes)
+    status, reason = decide_status(table, notes)
     return MoleculeAudit(
         record=record,
         status=status,
         reason=reason,
         smiles=smiles,
         assignments=assignments,
-        resolutions=resolutions,
+        resolutions=table,
         findings=tuple(notes),
         fragments=fragments,
         elements=elements,
@@ -359,7 +287,11 @@ def decide_status(
     resolutions: Sequence[Resolution], findings: Sequence[Finding]
 ) -> tuple[str, str | None]:
     """Status and reason from a molecule's resolutions (pure function)."""
-    missing = Counter(r.term.kind for r in resolutions if r.tier == "missing")
+    groups = _table(resolutions).groups()
+    missing: Counter[str] = Counter()
+    for kind, tier, _, _, n in groups:
+        if tier == "missing":
+            missing[kind] += n
     if missing:
         parts = [
             f"{n} {kind}" for kind, n in sorted(missing.items(), key=lambda kv: KINDS.index(kv[0]))
@@ -369,7 +301,7 @@ def decide_status(
         if unclassified:
             reason += f"; {len(unclassified)} atoms without a class"
         return "incomplete", reason
-    estimated = sum(1 for r in resolutions if r.tier not in RESOLVED_FROM_SET)
+    estimated = sum(n for _, tier, _, _, n in groups if tier not in RESOLVED_FROM_SET)
     if estimated:
         return "estimated", f"{estimated} terms resolved only by estimates"
     return "covered", None
@@ -400,15 +332,16 @@ class Summary:
                 {"index": audit.record.index, **audit.record.source_dict(), "reason": audit.reason}
             )
             return
-        self.counts = self.counts + audit.counts
+        table = audit.table
+        for (kind, tier), n in table.tier_counts().items():
+            self.counts.add(kind, tier, n)
         if audit.score is not None:
             self.scores.append(audit.score)
         seen: set[tuple[str, tuple[str, ...]]] = set()
-        for r in audit.resolutions:
-            if r.tier == "missing":
-                key = (r.term.kind, _named_classes(r.term, audit.elements))
-                self.missing_terms[key] += 1
-                seen.add(key)
+        for r in table.picked(table.positions(("missing",))):
+            key = (r.term.kind, _named_classes(r.term, audit.elements))
+            self.missing_terms[key] += 1
+            seen.add(key)
         for key in seen:
             self.missing_molecules[key] += 1
         self.assigned.update(a.class_id for a in audit.assignments if a.class_id is not None)
@@ -451,7 +384,7 @@ class Summary:
             "terms": self.counts.to_dict(),
             "score": {
                 "min": min(scores) if scores else None,
-                "median": _round(statistics.median(scores)) if scores else None,
+                "median": rounded(statistics.median(scores)) if scores else None,
                 "histogram": histogram,
             },
             "top_missing": [
@@ -469,6 +402,10 @@ class Summary:
             "elements_without_class": dict(sorted(self.elements_without_class.items())),
             "unreadable": self.unreadable,
         }
+
+
+def _table(resolutions: Sequence[Resolution]) -> TermTable:
+    return resolutions if isinstance(resolutions, TermTable) else TermTable.of(resolutions)
 
 
 def _named_classes(term: Term, elements: Sequence[str]) -> tuple[str, ...]:

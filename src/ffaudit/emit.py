@@ -14,11 +14,12 @@ from collections.abc import Iterable
 from dataclasses import replace
 from typing import Any
 
-from ffaudit.audit import MoleculeAudit, entry_values
+from ffaudit.audit import MoleculeAudit
 from ffaudit.paramset.canonical import UNASSIGNED, canonical_classes
 from ffaudit.paramset.model import Entry, EnvClass, Header, ParameterSet, Source
 from ffaudit.paramset.write import dump_set_document
 from ffaudit.resolve.estimate import BADGER_CITATION, UFF_CITATION
+from ffaudit.termdict import entry_values
 
 ESTIMATE_SOURCES = {
     rule: Source(

@@ -7,11 +7,12 @@ import json
 import os
 from typing import Any, TextIO
 
-from ffaudit.audit import AuditContext, MoleculeAudit, cautions_for, entry_values
+from ffaudit.audit import AuditContext, MoleculeAudit, cautions_for
 from ffaudit.cli import exitcodes
 from ffaudit.cli.common import add_params_option, add_reader_options, load_params, reader_options
 from ffaudit.errors import UsageError
 from ffaudit.read.record import Record
+from ffaudit.termdict import entry_values
 
 
 def add_parser(sub: Any) -> None:

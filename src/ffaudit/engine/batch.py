@@ -27,8 +27,8 @@ import gc
 import itertools
 import weakref
 from collections.abc import Iterable, Iterator, Sequence
-from dataclasses import dataclass, fields, is_dataclass
-from typing import Any
+from dataclasses import dataclass
+from typing import Any, cast
 
 import numpy as np
 from numpy.typing import NDArray
@@ -55,6 +55,7 @@ from ffaudit.resolve.driver import Resolution
 from ffaudit.resolve.estimate import MoleculeTypes
 from ffaudit.terms import Term
 from ffaudit.terms_batch import NO_QUALIFIER, KindTerms, enumerate_batch
+from ffaudit.termtable import OWN, SharedOutcome, TermTable
 
 IntArray = NDArray[np.int64]
 
@@ -68,28 +69,7 @@ LAYOUTS = ("auto", "explicit")
 """``auto``: the heavy layout where the set's rules allow it; ``explicit``: always add hydrogens first."""
 
 _SYMBOLS = tuple(Chem.GetPeriodicTable().GetElementSymbol(z) for z in range(119))
-_new = object.__new__
-_set = object.__setattr__
-
-
-def _plain_dataclass(cls: type) -> bool:
-    """True when instances can be built by filling ``__dict__`` (no ``__post_init__``, no slots)."""
-    return is_dataclass(cls) and not hasattr(cls, "__post_init__") and not hasattr(cls, "__slots__")
-
-
-_FAST_OBJECTS = _plain_dataclass(Term) and _plain_dataclass(Resolution)
-_RESOLUTION_FIELDS = tuple(f.name for f in fields(Resolution))
-
-
 _UNSEEN: Any = object()
-
-
-def _template(resolution: Resolution) -> dict[str, Any]:
-    """The fields of ``resolution`` that every term with the same tuple shares (all but the term)."""
-    values = {name: getattr(resolution, name) for name in _RESOLUTION_FIELDS}
-    if resolution.details:
-        raise ValueError("a resolution shared by a tuple carries per-term details")
-    return values
 
 
 class _UseReference(Exception):
@@ -172,7 +152,7 @@ class FastAuditor:
         self._rank_bits = max(1, len(ids).bit_length())
         self._bond_codes = BondCodes()
         self._key_info: dict[int, _KeyInfo] = {}
-        self._templates: dict[int, dict[str, Any] | None] = {}
+        self._outcomes: dict[int, SharedOutcome | None] = {}
         self._assignments: dict[tuple[int, int], Assignment] = {}
         self._findings: dict[tuple[int, str], Finding] = {}
         self._estimate = "estimate" in context.resolver.tiers
@@ -399,56 +379,50 @@ class FastAuditor:
                 types_cache.append(MoleculeTypes(molh()) if self._estimate else None)
             return types_cache[0]
 
-        resolutions: list[Resolution] = []
-        append = resolutions.append
-        templates = self._templates
+        # terms: each new tuple resolved once (its first term), in the reference's order of first use;
+        # estimates and terms with an unclassified atom resolved per term
+        outcomes = self._outcomes
         infos = self._key_info
-        fast = _FAST_OBJECTS
+        atoms_all: list[tuple[int, ...] | None] = []
+        keys_all: list[int] = []
+        own: dict[int, Resolution] = {}
         for rows in done.rows:
             start, end = int(rows.bounds[m]), int(rows.bounds[m + 1])
-            kind = rows.kind
-            for atoms, key in zip(rows.atoms[start:end], rows.keys[start:end], strict=True):
+            if start == end:
+                continue
+            offset = len(keys_all)
+            atoms = rows.atoms[start:end]
+            keys = rows.keys[start:end]
+            atoms_all += atoms
+            keys_all += keys
+            single: set[int] = set()
+            for key in dict.fromkeys(keys):
+                outcome = outcomes.get(key, _UNSEEN)
+                if outcome is None:
+                    single.add(key)
+                    continue
+                if outcome is not _UNSEEN:
+                    continue
                 info = infos[key]
-                if fast:
-                    term = _new(Term)
-                    _set(
-                        term,
-                        "__dict__",
-                        {
-                            "kind": kind,
-                            "atoms": atoms,
-                            "classes": info.classes,
-                            "bond_order": info.order,
-                            "in_ring": info.ring,
-                        },
-                    )
-                else:
-                    term = Term(kind, atoms, info.classes, info.order, info.ring)
-                template = templates.get(key, _UNSEEN)
-                if template is not None and template is not _UNSEEN:
-                    if fast:
-                        values = template.copy()
-                        values["term"] = term
-                        values["details"] = {}
-                        resolution = _new(Resolution)
-                        _set(resolution, "__dict__", values)
-                        append(resolution)
-                    else:
-                        append(Resolution(**{**template, "term": term, "details": {}}))
+                if info.unassigned:  # the reference never shares those: the reason names the atoms
+                    single.add(key)
                     continue
-                if template is None or info.unassigned:
-                    # per-term: an estimate, or a term with an unclassified atom (the reference never
-                    # caches those: the reason names the atoms)
-                    append(resolver.resolve(term, types()))
-                    continue
+                term = Term(rows.kind, atoms[keys.index(key)], info.classes, info.order, info.ring)
                 first = resolver.resolve(term, None)
                 if first.tier == "missing" and self._estimate:
-                    templates[key] = None
-                    append(resolver.resolve(term, types()))
+                    outcomes[key] = None
+                    single.add(key)
                 else:
-                    templates[key] = _template(first)
-                    append(first)
-        resolved = tuple(resolutions)
+                    outcomes[key] = SharedOutcome.of(first)
+            if single:
+                for i, key in enumerate(keys):
+                    if key in single:
+                        info = infos[key]
+                        term = Term(rows.kind, atoms[i], info.classes, info.order, info.ring)
+                        own[offset + i] = resolver.resolve(term, types())
+                        keys_all[offset + i] = OWN
+        # every key left in keys_all has a shared outcome (the others were replaced by OWN)
+        resolved = TermTable(atoms_all, keys_all, cast("dict[int, SharedOutcome]", outcomes), own)
         proposed: tuple[Any, ...] = ()
         if findings:
             proposed = tuple(propose_class(molh(), f.atoms[0]) for f in findings)
@@ -494,7 +468,10 @@ class FastAuditor:
 
 
 def _smiles(mol: Chem.Mol) -> str:
-    """The audit's SMILES, as the reference writes it."""
+    """The audit's SMILES, as the reference writes it (``RemoveHs`` skipped when there are no hydrogen atoms:
+    it would change nothing)."""
+    if mol.GetNumHeavyAtoms() == mol.GetNumAtoms():
+        return str(Chem.MolToSmiles(mol))
     try:
         return str(Chem.MolToSmiles(Chem.RemoveHs(mol)))
     except Exception:

@@ -1,0 +1,342 @@
+"""The resolved terms of one molecule, stored compactly: a read-only sequence of :class:`Resolution`.
+
+A molecule has about 200 terms, and most of them share their outcome with many other terms of the library
+(the fast path resolves each distinct tuple once). Building a :class:`Term` and a :class:`Resolution` object
+per term, and then a dict and JSON text per term, cost more than all the rest of an audit. A
+:class:`TermTable` keeps per term only its atoms and a key into a table of :class:`SharedOutcome`, plus
+the resolutions made for single terms (rule estimates, terms with an unclassified atom). Objects are built
+only when someone iterates or indexes the table; the totals an audit needs (counts by kind and tier, the
+lowest score, the missing terms) and the listed terms (dicts, or JSON text byte-identical to encoding those
+dicts) come from the shared outcomes directly.
+
+The reference path wraps its tuple of resolutions with :meth:`TermTable.of`, so both paths answer alike;
+two tables are equal when their resolutions are, whatever their storage.
+"""
+
+from __future__ import annotations
+
+from collections import Counter
+from collections.abc import Iterable, Iterator, Mapping, Sequence
+from typing import Any, overload
+
+from ffaudit.paramset.model import Entry, ParameterSet
+from ffaudit.resolve.driver import Resolution
+from ffaudit.score import TIERS
+from ffaudit.termdict import resolution_dict
+from ffaudit.terms import Term
+
+PROBLEM_TIERS = frozenset(TIERS) - {"exact"}
+"""The tiers ``--terms problems`` lists."""
+
+OWN = -1
+"""The key of a term whose resolution is its own (kept in the table's ``own`` mapping)."""
+
+
+def _compact(obj: Any) -> str:
+    from ffaudit.report.jsonl import dump_compact
+
+    return dump_compact(obj)
+
+
+class SharedOutcome:
+    """What every term with one (kind, classes, qualifiers) tuple shares: all of its resolution but the atoms.
+
+    Holds the output of such terms once per parameter set (the dict after ``kind`` and ``atoms``, and its
+    JSON text). Raises ``ValueError`` from :meth:`of` for a resolution with per-term details (an estimate).
+    """
+
+    __slots__ = (
+        "kind",
+        "classes",
+        "order",
+        "ring",
+        "tier",
+        "entry",
+        "score",
+        "reason",
+        "cause",
+        "substitutions",
+        "_output",
+    )
+
+    def __init__(
+        self,
+        kind: str,
+        classes: tuple[str, ...],
+        order: str | None,
+        ring: bool | None,
+        tier: str,
+        entry: Entry | None,
+        score: float,
+        reason: str | None,
+        cause: str | None,
+        substitutions: tuple[tuple[int, str, str], ...],
+    ) -> None:
+        self.kind = kind
+        self.classes = classes
+        self.order = order
+        self.ring = ring
+        self.tier = tier
+        self.entry = entry
+        self.score = score
+        self.reason = reason
+        self.cause = cause
+        self.substitutions = substitutions
+        self._output: tuple[ParameterSet, dict[str, Any], str, str] | None = None
+
+    @classmethod
+    def of(cls, resolution: Resolution) -> SharedOutcome:
+        """The shared part of ``resolution``; ``ValueError`` when it carries per-term details."""
+        if resolution.details:
+            raise ValueError("a resolution with per-term details cannot be shared")
+        t = resolution.term
+        r = resolution
+        return cls(
+            t.kind, t.classes, t.bond_order, t.in_ring, r.tier, r.entry, r.score, r.reason,
+            r.cause, r.substitutions,
+        )  # fmt: skip
+
+    def resolution(self, atoms: tuple[int, ...]) -> Resolution:
+        """The resolution of the term on ``atoms``."""
+        term = Term(self.kind, atoms, self.classes, self.order, self.ring)
+        return Resolution(
+            term, self.tier, self.entry, self.score, self.reason, self.cause, self.substitutions
+        )
+
+    def output(self, pset: ParameterSet, atoms: tuple[int, ...]) -> tuple[dict[str, Any], str, str]:
+        """The term dict after ``kind`` and ``atoms``, and the JSON text before and after the atoms.
+
+        Made from a real :func:`resolution_dict` (of the term on ``atoms``) once per parameter set, so the
+        output cannot differ from the reference's.
+        """
+        cached = self._output
+        if cached is not None and cached[0] is pset:
+            return cached[1], cached[2], cached[3]
+        full = resolution_dict(self.resolution(atoms), pset)
+        tail = {k: v for k, v in full.items() if k not in ("kind", "atoms")}
+        before = '{"kind":' + _compact(self.kind) + ',"atoms":['
+        after = "]," + _compact(tail)[1:]
+        self._output = (pset, tail, before, after)
+        return tail, before, after
+
+
+_ATOM_TEXT: dict[tuple[int, ...], str] = {}
+_ATOM_TEXT_LIMIT = 200_000
+
+
+def _atom_text(atoms: tuple[int, ...]) -> str:
+    """``0,1,2`` for ``(0, 1, 2)``: the inside of the JSON list (cached: small tuples recur in every molecule)."""
+    text = _ATOM_TEXT.get(atoms)
+    if text is None:
+        text = ",".join(map(str, atoms))
+        if len(_ATOM_TEXT) >= _ATOM_TEXT_LIMIT:
+            _ATOM_TEXT.clear()
+        _ATOM_TEXT[atoms] = text
+    return text
+
+
+class TermTable(Sequence[Resolution]):
+    """The resolutions of one molecule's terms, in term order (see the module docstring).
+
+    ``atoms[i]`` and ``keys[i]`` describe term ``i``: ``shared[keys[i]]`` is its outcome, or ``keys[i]`` is
+    :data:`OWN` and ``own[i]`` is its resolution (``atoms[i]`` is then unused). The table never changes;
+    ``shared`` may be a larger mapping (the fast path's, shared by many tables) that only grows.
+    """
+
+    __slots__ = ("_atoms", "_keys", "_shared", "_own", "_items", "_groups", "_counts")
+
+    def __init__(
+        self,
+        atoms: Sequence[tuple[int, ...] | None],
+        keys: Sequence[int],
+        shared: Mapping[int, SharedOutcome],
+        own: Mapping[int, Resolution],
+    ) -> None:
+        if len(atoms) != len(keys):
+            raise ValueError(f"{len(atoms)} atom tuples for {len(keys)} keys")
+        self._atoms = atoms
+        self._keys = keys
+        self._shared = shared
+        self._own = own
+        self._items: tuple[Resolution, ...] | None = None
+        self._groups: list[tuple[str, str, Entry | None, float, int]] | None = None
+        self._counts: Counter[tuple[str, str]] | None = None
+
+    @classmethod
+    def of(cls, resolutions: Iterable[Resolution]) -> TermTable:
+        """A table holding ``resolutions`` as they are (every term its own)."""
+        items = tuple(resolutions)
+        table = cls((None,) * len(items), (OWN,) * len(items), {}, dict(enumerate(items)))
+        table._items = items
+        return table
+
+    # --- the sequence -----------------------------------------------------------------------------
+
+    def _item(self, i: int) -> Resolution:
+        key = self._keys[i]
+        if key == OWN:
+            return self._own[i]
+        atoms = self._atoms[i]
+        assert atoms is not None
+        return self._shared[key].resolution(atoms)
+
+    def resolutions(self) -> tuple[Resolution, ...]:
+        """Every resolution, in term order (built on first call, then kept)."""
+        if self._items is None:
+            self._items = tuple(self._item(i) for i in range(len(self._keys)))
+        return self._items
+
+    def __len__(self) -> int:
+        return len(self._keys)
+
+    @overload
+    def __getitem__(self, index: int) -> Resolution: ...
+
+    @overload
+    def __getitem__(self, index: slice) -> tuple[Resolution, ...]: ...
+
+    def __getitem__(self, index: int | slice) -> Resolution | tuple[Resolution, ...]:
+        return self.resolutions()[index]
+
+    def __iter__(self) -> Iterator[Resolution]:
+        return iter(self.resolutions())
+
+    def __eq__(self, other: object) -> bool:
+        if isinstance(other, TermTable):
+            return self.resolutions() == other.resolutions()
+        if isinstance(other, tuple):
+            return self.resolutions() == other
+        return NotImplemented
+
+    __hash__ = None  # type: ignore[assignment]
+
+    def __repr__(self) -> str:
+        return f"TermTable({self.resolutions()!r})"
+
+    def __reduce__(self) -> tuple[Any, ...]:
+        return (TermTable.of, (self.resolutions(),))
+
+    # --- totals without objects -------------------------------------------------------------------
+
+    def groups(self) -> list[tuple[str, str, Entry | None, float, int]]:
+        """(kind, tier, entry, score, number of terms) per shared outcome used and per own resolution
+        (made on first call, then kept; do not change the list)."""
+        if self._groups is not None:
+            return self._groups
+        out: list[tuple[str, str, Entry | None, float, int]] = []
+        shared = self._shared
+        for key, n in Counter(self._keys).items():
+            if key != OWN:
+                o = shared[key]
+                out.append((o.kind, o.tier, o.entry, o.score, n))
+        for r in self._own.values():
+            out.append((r.term.kind, r.tier, r.entry, r.score, 1))
+        self._groups = out
+        return out
+
+    def tier_counts(self) -> Counter[tuple[str, str]]:
+        """Number of terms per (kind, tier) (made on first call, then kept; do not change it)."""
+        if self._counts is None:
+            counts: Counter[tuple[str, str]] = Counter()
+            for kind, tier, _, _, n in self.groups():
+                counts[kind, tier] += n
+            self._counts = counts
+        return self._counts
+
+    def lowest(self) -> Resolution | None:
+        """The resolution with the lowest score, the first in term order on ties; None without terms."""
+        if not self._keys:
+            return None
+        shared = self._shared
+        distinct = [k for k in dict.fromkeys(self._keys) if k != OWN]
+        low = min(
+            [shared[k].score for k in distinct] + [r.score for r in self._own.values()]
+        )
+        keys = self._keys
+        first = min(
+            [keys.index(k) for k in distinct if shared[k].score == low]
+            + [i for i, r in self._own.items() if r.score == low]
+        )
+        return self._item(first)
+
+    def positions(self, tiers: Iterable[str] | None = None) -> list[int]:
+        """Term positions, in order, of the terms whose tier is in ``tiers`` (all when None)."""
+        n = len(self._keys)
+        if tiers is None:
+            return list(range(n))
+        wanted = frozenset(tiers)
+        groups = self.groups()
+        hits = sum(1 for g in groups if g[1] in wanted)
+        if hits == 0:
+            return []
+        if hits == len(groups):
+            return list(range(n))
+        shared = self._shared
+        keep = {k for k in set(self._keys) if k != OWN and shared[k].tier in wanted}
+        if not self._own:
+            return [i for i, k in enumerate(self._keys) if k in keep]
+        own = {i for i, r in self._own.items() if r.tier in wanted}
+        return [i for i, k in enumerate(self._keys) if k in keep or i in own]
+
+    def picked(self, positions: Iterable[int]) -> list[Resolution]:
+        """The resolutions at ``positions`` (built for these terms only)."""
+        return [self._item(i) for i in positions]
+
+    # --- output -----------------------------------------------------------------------------------
+
+    def _listed(self, terms: str) -> Sequence[int]:
+        if terms == "all":
+            return range(len(self._keys))
+        if terms == "problems":
+            return self.positions(PROBLEM_TIERS)
+        return ()
+
+    def _outputs(
+        self, pset: ParameterSet, positions: Sequence[int]
+    ) -> dict[int, tuple[dict[str, Any], str, str]]:
+        """The shared output of every key used at ``positions`` (made once per key and set)."""
+        atoms, keys, shared = self._atoms, self._keys, self._shared
+        out: dict[int, tuple[dict[str, Any], str, str]] = {}
+        for i in positions:
+            key = keys[i]
+            if key != OWN and key not in out:
+                a = atoms[i]
+                assert a is not None
+                out[key] = shared[key].output(pset, a)
+        return out
+
+    def term_dicts(self, pset: ParameterSet, terms: str = "all") -> list[dict[str, Any]]:
+        """The listed term dicts (``terms``: all, problems or none), as :func:`resolution_dict` makes them."""
+        positions = self._listed(terms)
+        outputs = self._outputs(pset, positions)
+        atoms, keys, shared, own = self._atoms, self._keys, self._shared, self._own
+        out: list[dict[str, Any]] = []
+        append = out.append
+        for i in positions:
+            key = keys[i]
+            if key == OWN:
+                append(resolution_dict(own[i], pset))
+            else:
+                a = atoms[i]
+                assert a is not None
+                append({"kind": shared[key].kind, "atoms": list(a), **outputs[key][0]})
+        return out
+
+    def terms_json(self, pset: ParameterSet, terms: str = "all") -> str:
+        """The JSON list of the listed term dicts, byte-identical to compact-encoding :meth:`term_dicts`.
+
+        Raises ``ValueError`` for a NaN or infinite value, as the encoder does.
+        """
+        positions = self._listed(terms)
+        outputs = self._outputs(pset, positions)
+        before = {k: v[1] for k, v in outputs.items()}
+        after = {k: v[2] for k, v in outputs.items()}
+        atoms, keys, own = self._atoms, self._keys, self._own
+        texts = _ATOM_TEXT
+        parts = [
+            _compact(resolution_dict(own[i], pset))
+            if keys[i] == OWN
+            else before[keys[i]] + (texts.get(atoms[i]) or _atom_text(atoms[i])) + after[keys[i]]  # type: ignore[arg-type]
+            for i in positions
+        ]
+        return "[" + ",".join(parts) + "]"

@@ -1,0 +1,160 @@
+"""TermTable (ffaudit.termtable): the compact store of a molecule's resolutions against the plain definitions.
+
+The check data is the definition of each answer over the materialised tuple of resolutions, the way the
+reference path computes it (``min`` for the lowest score, a filter for the listed terms, ``Counter`` for
+the counts, :func:`resolution_dict` and the JSONL encoder for the output), on tables made at random by
+hypothesis and on the embedded default set's real entries. The fast path's tables on RDKit's NCI first_5K
+are checked against the reference path in tests/test_fast_path.py.
+"""
+
+from __future__ import annotations
+
+import pickle
+from collections import Counter
+
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from ffaudit.audit import MoleculeAudit, decide_status, estimated_entry_finding
+from ffaudit.paramset.load import load_parameter_set
+from ffaudit.paramset.model import Entry, ParameterSet
+from ffaudit.read.record import Record
+from ffaudit.report.jsonl import dump_compact
+from ffaudit.resolve.driver import Resolution
+from ffaudit.score import TIERS
+from ffaudit.termdict import resolution_dict
+from ffaudit.terms import Term
+from ffaudit.termtable import OWN, PROBLEM_TIERS, SharedOutcome, TermTable
+
+PSET = load_parameter_set()
+SIZES = {"bond": 2, "angle": 3, "dihedral": 4, "out_of_plane": 4, "nonbonded": 1}
+ENTRIES: dict[str, list[Entry]] = {kind: list(PSET.entries(kind).values())[:4] for kind in SIZES}
+
+
+def _outcome(kind: str, tier: str, score: float, pick: int) -> SharedOutcome:
+    entry = None if tier == "missing" else ENTRIES[kind][pick % len(ENTRIES[kind])]
+    classes = entry.classes if entry is not None else ("zz",) * SIZES[kind]
+    order = "single" if kind in ("bond", "dihedral") else None
+    subs = ((0, "a", "b"),) if tier in ("parent", "analogy") else ()
+    reason = "no parameter" if tier == "missing" else None
+    return SharedOutcome(kind, classes, order, None, tier, entry, score, reason, None, subs)
+
+
+outcomes_st = st.lists(
+    st.builds(
+        _outcome,
+        st.sampled_from(sorted(SIZES)),
+        st.sampled_from([t for t in TIERS if t != "estimate"]),
+        st.sampled_from([0.0, 0.25, 0.5, 1.0]),  # few values: ties are common
+        st.integers(0, 3),
+    ),
+    min_size=1,
+    max_size=6,
+)
+
+
+@st.composite
+def tables(draw: st.DrawFn) -> tuple[TermTable, tuple[Resolution, ...]]:
+    """A random table and the plain tuple of resolutions it must stand for."""
+    outcomes = dict(enumerate(draw(outcomes_st)))
+    n = draw(st.integers(0, 30))
+    keys: list[int] = []
+    atoms: list[tuple[int, ...] | None] = []
+    own: dict[int, Resolution] = {}
+    expected: list[Resolution] = []
+    for i in range(n):
+        key = draw(st.integers(0, len(outcomes) - 1))
+        kind = outcomes[key].kind
+        a = tuple(draw(st.lists(st.integers(0, 40), min_size=SIZES[kind], max_size=SIZES[kind])))
+        if draw(st.integers(0, 4)) == 0:  # a term with a resolution of its own (an estimate)
+            entry = ENTRIES[kind][0]
+            term = Term(kind, a, entry.classes, outcomes[key].order, None)
+            r = Resolution(
+                term,
+                "estimate",
+                entry,
+                draw(st.sampled_from([0.25, 0.5])),
+                "no parameter",
+                details={"rule": "test-rule", "inputs": {"atoms": list(a)}},
+            )
+            own[i] = r
+            keys.append(OWN)
+            atoms.append(None)
+            expected.append(r)
+        else:
+            keys.append(key)
+            atoms.append(a)
+            expected.append(outcomes[key].resolution(a))
+    return TermTable(atoms, keys, outcomes, own), tuple(expected)
+
+
+@settings(max_examples=150, deadline=None)
+@given(tables())
+def test_table_answers_as_its_resolutions(case: tuple[TermTable, tuple[Resolution, ...]]) -> None:
+    table, items = case
+    assert len(table) == len(items)
+    assert tuple(table) == items and table == items and table == TermTable.of(items)
+    assert table.tier_counts() == Counter((r.term.kind, r.tier) for r in items)
+    # the reference's rule: the lowest score, the first in term order on ties
+    assert table.lowest() == min(items, key=lambda r: r.score, default=None)
+    for tiers in (("missing",), PROBLEM_TIERS, ("exact",), ()):
+        assert table.positions(tiers) == [i for i, r in enumerate(items) if r.tier in tiers]
+    plain = TermTable.of(items)
+    assert decide_status(table, []) == decide_status(plain, [])
+    assert estimated_entry_finding(table) == estimated_entry_finding(plain)
+    for terms, listed in (
+        ("all", list(items)),
+        ("problems", [r for r in items if r.tier != "exact"]),
+        ("none", []),
+    ):
+        dicts = [resolution_dict(r, PSET) for r in listed]
+        assert table.term_dicts(PSET, terms) == dicts
+        assert table.terms_json(PSET, terms) == dump_compact(dicts)
+    assert pickle.loads(pickle.dumps(table)) == items
+
+
+def test_shared_output_is_made_per_parameter_set() -> None:
+    """The cached output belongs to one set: a second set gets its own (its name is in the provenance)."""
+    entry = ENTRIES["bond"][0]
+    outcome = SharedOutcome("bond", entry.classes, "single", None, "exact", entry, 1.0, None, None, ())
+    table = TermTable([(0, 1), (1, 2)], [7, 7], {7: outcome}, {})
+    first = table.terms_json(PSET, "all")
+    assert '"set":"generic-organic' in first
+    other = _renamed(PSET, "another-set")
+    second = table.terms_json(other, "all")
+    assert '"set":"another-set' in second and second != first
+    assert second == dump_compact([resolution_dict(r, other) for r in table])
+
+
+def _renamed(pset: ParameterSet, name: str) -> ParameterSet:
+    from dataclasses import replace
+
+    return replace(pset, header=replace(pset.header, name=name))
+
+
+def test_outcome_with_details_is_refused() -> None:
+    entry = ENTRIES["bond"][0]
+    term = Term("bond", (0, 1), entry.classes, "single", None)
+    estimate = Resolution(term, "estimate", entry, 0.5, details={"rule": "x"})
+    with pytest.raises(ValueError, match="per-term details"):
+        SharedOutcome.of(estimate)
+    plain = Resolution(term, "exact", entry, 1.0)
+    assert SharedOutcome.of(plain).resolution((0, 1)) == plain
+
+
+def test_table_rejects_mismatched_lengths() -> None:
+    with pytest.raises(ValueError, match="atom tuples"):
+        TermTable([(0, 1)], [], {}, {})
+
+
+def test_audit_wraps_any_sequence_and_keeps_equality() -> None:
+    """A hand-made audit with a tuple equals the same audit given the tuple's table."""
+    entry = ENTRIES["bond"][0]
+    r = Resolution(Term("bond", (0, 1), entry.classes, "single", None), "exact", entry, 1.0)
+    record = Record(0, "<test>", 1, 1, "x", None)
+    plain = MoleculeAudit(record, "covered", None, resolutions=(r,))
+    assert isinstance(plain.resolutions, TermTable)
+    assert plain == MoleculeAudit(record, "covered", None, resolutions=TermTable.of([r]))
+    assert plain.resolutions == (r,) and plain.score == 1.0
+    assert plain.to_json(PSET) == dump_compact(plain.to_dict(PSET))
