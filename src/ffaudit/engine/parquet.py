@@ -33,7 +33,7 @@ _SCALARS: tuple[tuple[str, str], ...] = (
     ("atoms", "int64"),
     ("fragments", "int64"),
 )
-_TERM_FIELDS = (
+_TERM_COLUMNS = (
     "kind",
     "atoms",
     "classes",
@@ -41,9 +41,24 @@ _TERM_FIELDS = (
     "tier",
     "score",
     "form",
-    "values",
-    "provenance",
+    "values_json",
+    "provenance_json",
     "reason",
+    "extra_json",
+)
+_TERM_FIELDS = frozenset(
+    (
+        "kind",
+        "atoms",
+        "classes",
+        "order",
+        "tier",
+        "score",
+        "form",
+        "values",
+        "provenance",
+        "reason",
+    )
 )
 _KNOWN = {name for name, _ in _SCALARS} | {
     "source",
@@ -62,11 +77,8 @@ def _dumps(value: Any) -> str | None:
     return json.dumps(value, ensure_ascii=False, separators=(",", ":"), sort_keys=True)
 
 
-def schema() -> pa.Schema:
-    """The Parquet schema of a molecule table. Raises ``ImportError`` without pyarrow."""
-    if not HAVE_PYARROW:
-        raise ImportError("writing Parquet needs pyarrow: pip install 'ffaudit[parquet]'")
-    term = pa.struct(
+def _term_type() -> pa.StructType:
+    return pa.struct(
         [
             ("kind", pa.string()),
             ("atoms", pa.list_(pa.int32())),
@@ -81,6 +93,12 @@ def schema() -> pa.Schema:
             ("extra_json", pa.string()),
         ]
     )
+
+
+def schema() -> pa.Schema:
+    """The Parquet schema of a molecule table. Raises ``ImportError`` without pyarrow."""
+    if not HAVE_PYARROW:
+        raise ImportError("writing Parquet needs pyarrow: pip install 'ffaudit[parquet]'")
     fields = [
         pa.field("index", pa.int64(), nullable=False),
         pa.field("source_path", pa.string()),
@@ -94,27 +112,41 @@ def schema() -> pa.Schema:
         pa.field("score_term_json", pa.string()),
         pa.field("findings_json", pa.string()),
         pa.field("meta_json", pa.string()),
-        pa.field("terms", pa.list_(term)),
+        pa.field("terms", pa.list_(_term_type())),
         pa.field("extra_json", pa.string()),
     ]
     return pa.schema(fields)
 
 
-def _term_row(term: Mapping[str, Any], memo: dict[int, str | None]) -> dict[str, Any]:
-    extra = {k: v for k, v in term.items() if k not in _TERM_FIELDS}
-    return {
-        "kind": term.get("kind"),
-        "atoms": list(term.get("atoms") or ()),
-        "classes": list(term.get("classes") or ()),
-        "order": term.get("order"),
-        "tier": term.get("tier"),
-        "score": term.get("score"),
-        "form": term.get("form"),
-        "values_json": _dumps_shared(term.get("values"), memo),
-        "provenance_json": _dumps_shared(term.get("provenance"), memo),
-        "reason": term.get("reason"),
-        "extra_json": _dumps(extra) if extra else None,
-    }
+def _terms_column(molecules: Sequence[Mapping[str, Any]], memo: dict[int, str | None]) -> pa.Array:
+    """The ``terms`` column, built column by column (a row of structs per term is several times slower)."""
+    columns: dict[str, list[Any]] = {name: [] for name in _TERM_COLUMNS}
+    kind, atoms, classes, order, tier, score, form, values, prov, reason, extra = (
+        columns[name].append for name in _TERM_COLUMNS
+    )
+    offsets = [0]
+    for molecule in molecules:
+        for term in molecule.get("terms") or ():
+            kind(term.get("kind"))
+            atoms(term.get("atoms") or [])
+            classes(term.get("classes") or [])
+            order(term.get("order"))
+            tier(term.get("tier"))
+            score(term.get("score"))
+            form(term.get("form"))
+            values(_dumps_shared(term.get("values"), memo))
+            prov(_dumps_shared(term.get("provenance"), memo))
+            reason(term.get("reason"))
+            more = term.keys() - _TERM_FIELDS
+            extra(_dumps({k: term[k] for k in term if k in more}) if more else None)
+        offsets.append(len(columns["kind"]))
+    struct = _term_type()
+    arrays = [
+        pa.array(columns[f.name], type=f.type)
+        for f in (struct.field(i) for i in range(struct.num_fields))
+    ]
+    terms = pa.StructArray.from_arrays(arrays, fields=list(struct))
+    return pa.ListArray.from_arrays(pa.array(offsets, type=pa.int32()), terms)
 
 
 def _dumps_shared(value: Any, memo: dict[int, str | None]) -> str | None:
@@ -139,7 +171,6 @@ def _row(molecule: Mapping[str, Any], memo: dict[int, str | None]) -> dict[str, 
         score_term_json=_dumps(molecule.get("score_term")),
         findings_json=_dumps(molecule.get("findings") or []),
         meta_json=_dumps(molecule.get("meta")),
-        terms=[_term_row(t, memo) for t in molecule.get("terms") or ()],
         extra_json=_dumps(extra) if extra else None,
     )
     return row
@@ -148,7 +179,13 @@ def _row(molecule: Mapping[str, Any], memo: dict[int, str | None]) -> dict[str, 
 def molecules_to_table(molecules: Sequence[Mapping[str, Any]]) -> pa.Table:
     """The molecules as a table of :func:`schema`. Raises ``ImportError`` without pyarrow."""
     memo: dict[int, str | None] = {}
-    return pa.Table.from_pylist([_row(m, memo) for m in molecules], schema=schema())
+    full = schema()
+    others = pa.schema([f for f in full if f.name != "terms"])
+    table = pa.Table.from_pylist([_row(m, memo) for m in molecules], schema=others)
+    terms = _terms_column(molecules, memo)
+    return pa.Table.from_arrays(
+        [terms if f.name == "terms" else table.column(f.name) for f in full], schema=full
+    )
 
 
 def molecules_to_parquet(molecules: Sequence[Mapping[str, Any]]) -> bytes:
