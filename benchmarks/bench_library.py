@@ -63,13 +63,20 @@ def mmff_preflight(lines: list[str]) -> float:
 
 
 def ffaudit_run(
-    path: str, backend: str, jobs: int, terms: str = "all", reference: bool = False
+    path: str,
+    backend: str,
+    jobs: int,
+    terms: str = "all",
+    reference: bool = False,
+    encode: bool = False,
 ) -> tuple[float, int]:
-    """Seconds and records for a full audit of ``path`` with the embedded set (output objects built).
+    """Seconds and records for a full audit of ``path`` with the embedded set (output built).
 
     The chunks go through the engine exactly as in ``ffaudit audit`` (default chunk size, the chunk
-    function of every back-end); ``reference`` sets ``FFAUDIT_REFERENCE_PATH=1`` for the run (in-process
-    only: worker processes would read it when they start).
+    function of every back-end); the output is the molecule dicts, or with ``encode`` the JSON lines the
+    workers make for a JSONL report. The time includes starting the back-end (worker processes, a Dask
+    LocalCluster). ``reference`` sets ``FFAUDIT_REFERENCE_PATH=1`` for the run (in-process only: worker
+    processes would read it when they start).
     """
     from ffaudit.audit import AuditContext
     from ffaudit.engine.base import DEFAULT_CHUNK_SIZE, ChunkOptions, audit_chunks
@@ -87,7 +94,7 @@ def ffaudit_run(
         for result in audit_chunks(
             context,
             plan_library(path, chunk_size=DEFAULT_CHUNK_SIZE),
-            options=ChunkOptions(terms=terms),
+            options=ChunkOptions(terms=terms, encode=encode),
             backend=backend,
             n_jobs=jobs,
             scheduler="local" if backend == "dask" else None,
@@ -200,6 +207,20 @@ def small(args: argparse.Namespace, lines: list[str], tmp: str) -> None:
     print(f"ratio ffaudit / MMFF94 time, 1 core:      {t_problems / t_mmff:8.2f}  (terms problems)")
     print(f"ratio reference path / MMFF94 time:       {t_reference / t_mmff:8.2f}  (terms all)")
     print(f"fast path speed-up over reference path:   {t_reference / t_one:8.2f}x")
+    # the engine with JSON lines made by the workers (as for a JSONL report), start-up of the back-end
+    # included, without the CLI's own start-up (imports, loading the set)
+    engine_one = min(ffaudit_run(base, "inprocess", 1, encode=True)[0] for _ in range(2))
+    engine_two = min(ffaudit_run(base, "processes", 2, encode=True)[0] for _ in range(2))
+    print(f"engine, JSON lines, 1 core:               {n / engine_one:8.0f} molecules/s")
+    print(
+        f"engine, JSON lines, speed-up with 2 processes:          {engine_one / engine_two:5.2f}x"
+    )
+    if not args.no_dask:
+        engine_dask = min(ffaudit_run(base, "dask", 2, encode=True)[0] for _ in range(2))
+        print(
+            f"engine, JSON lines, speed-up with Dask LocalCluster (2): "
+            f"{engine_one / engine_dask:5.2f}x"
+        )
     # whole CLI runs (set loading, workers' start-up and writing included), one after another
     report = ["--format", "jsonl", "--terms", "all", "--fail-on", "never", "-o", os.devnull]
     engines: list[tuple[str, list[str]]] = [("1 core", ["--jobs", "1"])]

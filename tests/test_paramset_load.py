@@ -594,3 +594,15 @@ def test_first_atom_elements(smarts: str, expected: set[int] | None) -> None:
         target = Chem.AddHs(Chem.MolFromSmiles(smiles))
         for match in target.GetSubstructMatches(mol):
             assert target.GetAtomWithIdx(match[0]).GetAtomicNum() in found
+
+
+def test_parameter_set_schema_is_valid_2020_12() -> None:
+    """The loader does not check its schema at run time, so this test does (JSON Schema 2020-12 metaschema,
+    as shipped with jsonschema)."""
+    from jsonschema import Draft202012Validator
+
+    from ffaudit.paramset.schema import load_schema
+
+    schema = load_schema()
+    assert schema["$schema"] == "https://json-schema.org/draft/2020-12/schema"
+    Draft202012Validator.check_schema(schema)  # raises SchemaError if not

@@ -318,7 +318,7 @@ def _run_report(
             for chunk in audit(chunk_jobs, ChunkOptions(terms=terms, encode=encoded)):
                 summary.merge(chunk.summary)
                 if isinstance(reporter, JsonlReporter):
-                    reporter.add_lines(chunk.jsonl or "")
+                    reporter.add_lines(chunk.jsonl or b"")
                 else:
                     for molecule in chunk.molecules or ():
                         reporter.add(molecule)

@@ -95,7 +95,7 @@ class ChunkOptions:
 class ChunkResult:
     """The audit of one chunk: the per-molecule output and the chunk's :class:`Summary`.
 
-    Exactly one of ``molecules`` (dicts) and ``jsonl`` (text, one line per molecule) is set, according to
+    Exactly one of ``molecules`` (dicts) and ``jsonl`` (UTF-8 text, one line per molecule) is set, according to
     :attr:`ChunkOptions.encode`. ``summary`` covers the chunk's records only; merge summaries in chunk order.
     ``worker`` names where it ran (diagnostics only, never part of the output).
     """
@@ -105,7 +105,7 @@ class ChunkResult:
     count: int
     summary: Summary
     molecules: tuple[dict[str, Any], ...] | None = None
-    jsonl: str | None = None
+    jsonl: bytes | None = None
     parquet: bytes | None = None
     worker: str = field(default="", compare=False)
 
@@ -179,7 +179,7 @@ def check_result(job: ChunkJob, result: ChunkResult) -> ChunkResult:
             f"{result.summary.records} records, expected {job.count}"
         )
     delivered = (
-        len(result.molecules) if result.molecules is not None else (result.jsonl or "").count("\n")
+        len(result.molecules) if result.molecules is not None else (result.jsonl or b"").count(b"\n")
     )
     if delivered != job.count:
         raise EngineError(

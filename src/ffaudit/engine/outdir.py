@@ -307,7 +307,7 @@ class OutputDirectory:
                 f"chunk {result.number}: the result is not encoded for an output directory"
             )
         payloads = {
-            "jsonl": result.jsonl.encode("utf-8"),
+            "jsonl": result.jsonl,
             "summary": _json_bytes(summary_state(result.summary)),
         }
         if self.parquet and result.parquet is not None:

@@ -105,7 +105,7 @@ def _run_chunk(context: AuditContext, job: ChunkJob, options: ChunkOptions) -> C
             job.number, job.first, job.count, summary, molecules=molecules, worker=worker
         )
     # the JSON text straight from the audits (byte-identical to encoding to_dict, much cheaper)
-    text = "".join([a.to_json(pset, terms) + "\n" for a in audits])
+    text = "".join([a.to_json(pset, terms) + "\n" for a in audits]).encode("utf-8")
     parquet = None
     if options.parquet:
         from ffaudit.engine.parquet import molecules_to_parquet

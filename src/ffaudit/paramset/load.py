@@ -140,8 +140,11 @@ def _check_file(source: _Source, context: LayerContext, first_units: Any) -> _Fi
     if not doc.usable:
         result.best = result.findings[0] if result.findings else None
         return result
-    result.findings += iter_schema_findings(doc.data, doc.marks, source.shown)
-    result.best = best_schema_finding(doc.data, doc.marks, source.shown)
+    schema_findings = list(iter_schema_findings(doc.data, doc.marks, source.shown))
+    result.findings += schema_findings
+    result.best = (
+        best_schema_finding(doc.data, doc.marks, source.shown) if schema_findings else None
+    )
     result.findings += iter_semantic_findings(doc.data, doc.marks, source.shown, context=context)
     units = _get(doc.data, "header", "units")
     if first_units is not None and isinstance(units, dict) and units != first_units:

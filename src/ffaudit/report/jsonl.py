@@ -8,6 +8,7 @@ not written: a JSONL stream holds molecules only, so that ``cat``, ``grep`` and 
 from __future__ import annotations
 
 import json
+import os
 from collections.abc import Mapping
 from typing import Any, TextIO
 
@@ -33,10 +34,19 @@ class JsonlReporter:
         """Write ``molecule`` as one line. Raises ``ValueError`` / ``TypeError`` as :func:`dump_compact`."""
         self.out.write(dump_compact(molecule) + "\n")
 
-    def add_lines(self, lines: str) -> None:
-        """Write molecules already encoded, one :func:`dump_compact` line each with its newline (what
-        workers return with ``ChunkOptions(encode=True)``)."""
-        self.out.write(lines)
+    def add_lines(self, lines: bytes) -> None:
+        """Write molecules already encoded, one :func:`dump_compact` line each with its newline, as UTF-8
+        (what workers return with ``ChunkOptions(encode=True)``). The bytes go straight to the stream's
+        binary buffer when it writes UTF-8 on a platform whose line end is "\\n" (a file from
+        ``open_output``, usually stdout, on POSIX); otherwise they are decoded and written as text, so
+        that the stream's own encoding and newline translation apply."""
+        buffer = getattr(self.out, "buffer", None)
+        encoding = (getattr(self.out, "encoding", None) or "").lower().replace("-", "").replace("_", "")
+        if buffer is not None and encoding == "utf8" and os.linesep == "\n":
+            self.out.flush()
+            buffer.write(lines)
+        else:
+            self.out.write(lines.decode("utf-8"))
 
     def finish(self, summary: Mapping[str, Any]) -> None:
         """Flush the stream; the summary is not part of the JSONL output."""
