@@ -111,6 +111,34 @@ def test_missing_directory_is_a_usage_error_naming_the_path(tmp_path: Path) -> N
         pass
 
 
+def test_a_fifo_is_written_in_place_and_stays_a_fifo(tmp_path: Path) -> None:
+    """A named pipe as the output (a consumer reading it) gets the text, and no file is renamed onto it."""
+    import threading
+
+    fifo = tmp_path / "pipe"
+    os.mkfifo(fifo)
+    received: list[bytes] = []
+    reader = threading.Thread(target=lambda: received.append(fifo.read_bytes()))
+    reader.start()
+    with open_output(fifo) as out:
+        out.write("line 1\nline 2\n")
+    reader.join(timeout=10)
+    assert received == [b"line 1\nline 2\n"]
+    assert stat.S_ISFIFO(os.stat(fifo).st_mode)
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["pipe"]
+
+
+@pytest.mark.skipif(not os.path.exists(os.devnull), reason="no null device")
+def test_the_null_device_stays_a_device() -> None:
+    """-o /dev/null must not replace the device node with a regular file (it did, when run as root)."""
+    assert not stat.S_ISREG(os.stat(os.devnull).st_mode)
+    with open_output(os.devnull) as out:
+        out.write("discarded\n")
+    assert stat.S_ISCHR(os.stat(os.devnull).st_mode)
+    parent = Path(os.devnull).parent
+    assert not list(parent.glob(f".{Path(os.devnull).name}.*.part"))
+
+
 def test_registry_names_and_classes() -> None:
     assert {
         "table": TableReporter,

@@ -19,6 +19,7 @@ from __future__ import annotations
 import contextlib
 import os
 import secrets
+import stat
 import sys
 from collections.abc import Callable, Iterator, Mapping
 from pathlib import Path
@@ -58,7 +59,9 @@ def open_output(
     through a temporary file beside the target (``.NAME.RANDOM.part``, UTF-8, ``"\\n"`` line ends, mode from
     the umask like an ordinary new file) that is renamed onto the target when the ``with`` block ends
     normally. If the block raises (any exception, including ``KeyboardInterrupt``), the temporary file is
-    removed, an existing target is left as it was, and the exception propagates.
+    removed, an existing target is left as it was, and the exception propagates. A path that exists and is
+    neither a regular file nor a directory (``/dev/null``, a FIFO, ``/dev/stdout``) is opened and written in
+    place instead, since renaming a file onto it would replace the device or pipe.
 
     Raises :class:`ffaudit.errors.UsageError` naming the path when the temporary file cannot be created (missing
     directory, no permission) or the finished file cannot be moved into place.
@@ -68,6 +71,16 @@ def open_output(
         return
 
     target = Path(path)
+    if _special_file(target):
+        # a device, FIFO or socket (/dev/null, /dev/stdout, a named pipe) is written in place: a temporary
+        # file renamed onto it would replace the device node with a regular file
+        try:
+            stream = open(target, "w", encoding="utf-8", newline="")  # noqa: SIM115 (closed below)
+        except OSError as exc:
+            raise UsageError(f"cannot write output file {target}: {exc.strerror or exc}") from exc
+        with stream:
+            yield stream
+        return
     temp = target.with_name(f".{target.name}.{secrets.token_hex(6)}.part")
     try:
         fd = os.open(temp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666)
@@ -86,6 +99,15 @@ def open_output(
         with contextlib.suppress(FileNotFoundError):
             temp.unlink()
         raise UsageError(f"cannot write output file {target}: {exc.strerror or exc}") from exc
+
+
+def _special_file(path: Path) -> bool:
+    """True when ``path`` exists and is not a regular file or a directory (a device, FIFO or socket)."""
+    try:
+        mode = os.stat(path).st_mode
+    except OSError:
+        return False
+    return not (stat.S_ISREG(mode) or stat.S_ISDIR(mode))
 
 
 REPORTERS: dict[str, Callable[[TextIO], Reporter]] = {
