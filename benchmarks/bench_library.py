@@ -8,6 +8,9 @@ Prints molecules per second for
   (:func:`ffaudit.engine.work.run_chunk`: parse, batched fast path for classes, terms, resolution and
   estimates, the molecule objects with every term or with problems only), one core, and the ratio of the
   two times; the same with the reference path forced (``FFAUDIT_REFERENCE_PATH=1``), for comparison;
+- the engine making JSON lines (as for a JSONL report) on a started back-end: one core in-process, 2 worker
+  processes, a Dask LocalCluster of 2 workers, as speed-ups over one core (start-up of workers or cluster
+  excluded, caches cold: the throughput of a long run);
 - whole ``ffaudit audit`` runs (set loading, worker start-up and writing included, as a user sees them) on
   one core, with 2 worker processes and with a Dask LocalCluster of 2 workers (skip it with ``--no-dask``),
   writing a JSONL report and writing an output directory, as wall times and speed-ups over one core;
@@ -68,14 +71,11 @@ def ffaudit_run(
     jobs: int,
     terms: str = "all",
     reference: bool = False,
-    encode: bool = False,
 ) -> tuple[float, int]:
     """Seconds and records for a full audit of ``path`` with the embedded set (output built).
 
     The chunks go through the engine exactly as in ``ffaudit audit`` (default chunk size, the chunk
-    function of every back-end); the output is the molecule dicts, or with ``encode`` the JSON lines the
-    workers make for a JSONL report. The time includes starting the back-end (worker processes, a Dask
-    LocalCluster). ``reference`` sets ``FFAUDIT_REFERENCE_PATH=1`` for the run (in-process only: worker
+    function of every back-end) and give the molecule dicts. ``reference`` sets ``FFAUDIT_REFERENCE_PATH=1`` for the run (in-process only: worker
     processes would read it when they start).
     """
     from ffaudit.audit import AuditContext
@@ -94,7 +94,7 @@ def ffaudit_run(
         for result in audit_chunks(
             context,
             plan_library(path, chunk_size=DEFAULT_CHUNK_SIZE),
-            options=ChunkOptions(terms=terms, encode=encode),
+            options=ChunkOptions(terms=terms),
             backend=backend,
             n_jobs=jobs,
             scheduler="local" if backend == "dask" else None,
@@ -105,6 +105,40 @@ def ffaudit_run(
         os.environ.pop(REFERENCE_PATH_VARIABLE, None)
         if old is not None:
             os.environ[REFERENCE_PATH_VARIABLE] = old
+
+
+def engine_run(path: str, backend: str, jobs: int, tmp: str) -> float:
+    """Seconds to audit ``path`` on a started back-end, JSON lines made by the workers (``--terms all``).
+
+    The back-end is opened and every worker is given one tiny chunk first (starting the worker processes
+    or the cluster and loading the set there), untimed; the class rules and caches stay cold for the
+    timed run. With ``jobs`` workers, ``jobs`` warm-up chunks are kept in flight so each worker gets one.
+    """
+    from ffaudit.audit import AuditContext
+    from ffaudit.engine.base import DEFAULT_CHUNK_SIZE, ChunkOptions, open_backend, ordered
+    from ffaudit.engine.rawsplit import plan_library
+    from ffaudit.paramset.load import load_parameter_set
+
+    warm = os.path.join(tmp, "warm-up.smi")
+    with open(warm, "w") as handle:
+        handle.write("".join(f"[He] {i}\n" for i in range(jobs)))
+    context = AuditContext(load_parameter_set())
+    runner = open_backend(
+        context,
+        ChunkOptions(terms="all", encode=True),
+        backend=backend,
+        jobs=jobs,
+        scheduler="local" if backend == "dask" else None,
+    )
+    try:
+        for _ in ordered(runner, plan_library(warm, chunk_size=1)):
+            pass
+        start = time.perf_counter()
+        for _ in ordered(runner, plan_library(path, chunk_size=DEFAULT_CHUNK_SIZE)):
+            pass
+        return time.perf_counter() - start
+    finally:
+        runner.close()
 
 
 def load_average() -> str:
@@ -120,15 +154,25 @@ def peak_rss_mib(argv: list[str]) -> tuple[float, float]:
 
     Raises ``RuntimeError`` with the end of its stderr when the run fails.
     """
+    # VmHWM (Linux) is the peak of this process's own memory since it was exec'ed; ru_maxrss would also
+    # count what the benchmark process held when it forked this one (Linux keeps it across exec)
     code = (
         "import resource, sys, time\n"
         "from ffaudit.cli.main import main\n"
+        "def own_peak_kib():\n"
+        "    try:\n"
+        "        with open('/proc/self/status') as status:\n"
+        "            for line in status:\n"
+        "                if line.startswith('VmHWM:'):\n"
+        "                    return int(line.split()[1])\n"
+        "    except OSError:\n"
+        "        pass\n"
+        "    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss\n"
         "t = time.perf_counter()\n"
         f"rc = main({argv!r})\n"
         "dt = time.perf_counter() - t\n"
-        "self_kib = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss\n"
         "kids_kib = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss\n"
-        "print(dt, max(self_kib, kids_kib) / 1024, file=sys.stderr)\n"
+        "print(dt, max(own_peak_kib(), kids_kib) / 1024, file=sys.stderr)\n"
     )
     proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=False)
     lines = proc.stderr.strip().splitlines()
@@ -207,16 +251,16 @@ def small(args: argparse.Namespace, lines: list[str], tmp: str) -> None:
     print(f"ratio ffaudit / MMFF94 time, 1 core:      {t_problems / t_mmff:8.2f}  (terms problems)")
     print(f"ratio reference path / MMFF94 time:       {t_reference / t_mmff:8.2f}  (terms all)")
     print(f"fast path speed-up over reference path:   {t_reference / t_one:8.2f}x")
-    # the engine with JSON lines made by the workers (as for a JSONL report), start-up of the back-end
-    # included, without the CLI's own start-up (imports, loading the set)
-    engine_one = min(ffaudit_run(base, "inprocess", 1, encode=True)[0] for _ in range(2))
-    engine_two = min(ffaudit_run(base, "processes", 2, encode=True)[0] for _ in range(2))
-    print(f"engine, JSON lines, 1 core:               {n / engine_one:8.0f} molecules/s")
+    # the engine with JSON lines made by the workers (as for a JSONL report), once the back-end has started
+    # (worker processes or cluster up, set loaded in each): the throughput of a long run
+    engine_one = min(engine_run(base, "inprocess", 1, tmp) for _ in range(2))
+    engine_two = min(engine_run(base, "processes", 2, tmp) for _ in range(2))
+    print(f"engine, JSON lines, 1 core (started):     {n / engine_one:8.0f} molecules/s")
     print(
         f"engine, JSON lines, speed-up with 2 processes:          {engine_one / engine_two:5.2f}x"
     )
     if not args.no_dask:
-        engine_dask = min(ffaudit_run(base, "dask", 2, encode=True)[0] for _ in range(2))
+        engine_dask = min(engine_run(base, "dask", 2, tmp) for _ in range(2))
         print(
             f"engine, JSON lines, speed-up with Dask LocalCluster (2): "
             f"{engine_one / engine_dask:5.2f}x"

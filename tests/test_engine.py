@@ -38,6 +38,8 @@ from ffaudit.engine.base import (
     audit_stream,
     check_result,
     chunk_records,
+    open_backend,
+    ordered,
 )
 from ffaudit.engine.processes import ProcessBackend
 from ffaudit.engine.rawsplit import plan_library
@@ -232,6 +234,35 @@ def test_dask_local_cluster_agrees(reference_jsonl):
                          "--jobs", "2", "--chunk-size", "25")
     assert code == 0, err
     assert out == reference_jsonl
+
+
+@pytest.mark.parametrize(
+    "backend",
+    ["inprocess", "processes", pytest.param("dask", marks=needs_dask)],
+)
+def test_a_backend_runs_two_streams_one_after_the_other(context, backend, tmp_path, reference_jsonl):
+    """Chunk numbers start at 0 again in the second stream: its results must be its own (a Dask key made of
+    the chunk number alone gave the second stream the first stream's chunk)."""
+    small = tmp_path / "small.smi"
+    small.write_text("[He] 0\n[He] 1\n")  # two quick chunks (seen to trip the Dask key reuse every time)
+    runner = open_backend(
+        context,
+        ChunkOptions(terms="all", encode=True),
+        backend=backend,
+        jobs=2,
+        scheduler="local" if backend == "dask" else None,
+    )
+    expected_small = sequential(context, str(small), "jsonl")
+    try:
+        for _ in range(3):
+            small_jobs = plan_library(str(small), chunk_size=1)
+            first = b"".join(r.jsonl or b"" for r in ordered(runner, small_jobs))
+            second = b"".join(r.jsonl or b"" for r in ordered(runner, plan_library(SDF200, chunk_size=25)))
+            # the reference: each file audited record by record without the engine
+            assert first.decode() == expected_small
+            assert second.decode() == reference_jsonl
+    finally:
+        runner.close()
 
 
 # --------------------------------------------------------------------------- a real Dask cluster

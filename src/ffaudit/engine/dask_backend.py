@@ -118,6 +118,7 @@ class DaskBackend:
         payload = pickle.dumps(context, protocol=pickle.HIGHEST_PROTOCOL)
         digest = hashlib.sha256(payload).hexdigest()[:12]
         self.token = f"{digest}-{uuid.uuid4().hex[:12]}"
+        self._submitted = 0
         self._plugin_name = f"ffaudit-context-{self.token}"
         try:
             self.client.register_plugin(ContextPlugin(self.token, payload), name=self._plugin_name)
@@ -130,12 +131,15 @@ class DaskBackend:
         self.in_flight = in_flight or 2 * workers
 
     def submit(self, job: ChunkJob) -> Any:
+        # a key of its own per submission: a released key may still be known to the scheduler for a
+        # while, and a second stream on this back-end (chunk numbers start again at 0) would get its result
+        self._submitted += 1
         return self.client.submit(
             run_task,
             self.token,
             job,
             self.options,
-            key=f"ffaudit-chunk-{self.token}-{job.number:06d}",
+            key=f"ffaudit-chunk-{self.token}-{job.number:06d}-{self._submitted}",
             pure=False,
         )
 
