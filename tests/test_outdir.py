@@ -23,6 +23,14 @@ from ffaudit.read.open import iter_records
 
 SMI5K = Path(RDConfig.RDDataDir) / "NCI" / "first_5K.smi"
 
+try:
+    import pyarrow  # noqa: F401
+
+    HAVE_PYARROW = True
+except ImportError:
+    HAVE_PYARROW = False
+needs_pyarrow = pytest.mark.skipif(not HAVE_PYARROW, reason="pyarrow is not installed (parquet extra)")
+
 
 @pytest.fixture(scope="module")
 def library(tmp_path_factory) -> str:
@@ -211,3 +219,58 @@ def test_progress_is_quiet_unless_forced(library):
     assert "rec/s" in forced and "60/60" in forced
     _, out_quiet, _ = cli(library, "--jobs", "1", "--format", "csv")
     assert out_forced == out_quiet  # the bar never touches the report
+
+
+def _directory_files(tmp_path: Path, library: str, mode: str, parquet: bool) -> dict[str, bytes]:
+    from ffaudit.engine.base import ChunkOptions, audit_chunks
+    from ffaudit.engine.outdir import OutputDirectory, run_into_directory
+    from ffaudit.engine.rawsplit import plan_library
+
+    context = AuditContext(load_parameter_set())
+    path = tmp_path / f"{mode}-{parquet}"
+    out = OutputDirectory.open(path, {"library": library, "parquet": parquet}, resume=False)
+    options = ChunkOptions(
+        terms="all",
+        encode=True,
+        parquet=parquet,
+        directory=str(path) if mode == "worker" else None,
+    )
+    run_into_directory(
+        out,
+        plan_library(library, chunk_size=16),
+        lambda jobs: audit_chunks(context, jobs, options=options, backend="processes", n_jobs=2),
+        context.pset,
+        summary_doc=lambda summary: summary.to_dict(),
+    )
+    return {p.name: p.read_bytes() for p in sorted(path.iterdir())}
+
+
+@pytest.mark.parametrize("parquet", [False, pytest.param(True, marks=needs_pyarrow)])
+def test_chunk_files_written_by_workers_equal_those_sent_to_the_parent(tmp_path, library, parquet):
+    """Local workers write their chunk files themselves; a remote cluster's workers send the bytes to the
+    parent, which writes them. Both give the same directory, byte for byte (manifest included)."""
+    by_workers = _directory_files(tmp_path, library, "worker", parquet)
+    by_parent = _directory_files(tmp_path, library, "parent", parquet)
+    assert by_workers == by_parent
+    assert sum(name.endswith(".jsonl") for name in by_workers) == 4
+
+
+def test_a_worker_report_that_does_not_match_the_directory_is_refused(tmp_path):
+    from ffaudit.engine.base import ChunkResult, EngineError
+    from ffaudit.engine.outdir import OutputDirectory, write_chunk_files
+
+    pset = load_parameter_set()
+    out = OutputDirectory.open(tmp_path / "run", {"library": "x", "parquet": False}, resume=False)
+    files = write_chunk_files(out.path, 0, {"jsonl": b"{}\n"})
+
+    def result(reported):
+        return ChunkResult(0, 0, 1, Summary(pset), files=reported, lines=1)
+
+    with pytest.raises(EngineError, match="has 3 bytes, the worker wrote 99"):
+        out.write_chunk(result({"jsonl": {**files["jsonl"], "bytes": 99}}))
+    with pytest.raises(EngineError, match="expected"):
+        out.write_chunk(result({}))
+    (out.path / files["jsonl"]["name"]).unlink()
+    with pytest.raises(EngineError, match="is not there"):
+        out.write_chunk(result(files))
+    assert out.done == {}

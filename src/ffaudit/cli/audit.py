@@ -360,7 +360,15 @@ def _run_directory(
         "ffaudit_version": __version__,
     }
     out = OutputDirectory.open(directory, identity, resume=args.resume)
-    chunk_options = ChunkOptions(terms=args.terms, encode=True, parquet=out.parquet)
+    # workers on this machine (in-process, --jobs, a LocalCluster) write their chunk files themselves, so
+    # the chunks' bytes need not pass through this process; a remote cluster's workers send them here
+    local = args.scheduler in (None, "", "local")  # "local": ffaudit.engine.dask_backend.LOCAL
+    chunk_options = ChunkOptions(
+        terms=args.terms,
+        encode=True,
+        parquet=out.parquet,
+        directory=str(out.path.resolve()) if local else None,
+    )
 
     def summary_doc(summary: Summary) -> dict[str, Any]:
         return {

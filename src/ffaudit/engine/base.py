@@ -24,7 +24,7 @@ from __future__ import annotations
 
 import os
 from collections import deque
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator, Mapping
 from dataclasses import dataclass, field
 from typing import Any, Protocol
 
@@ -89,6 +89,10 @@ class ChunkOptions:
     terms: str = "all"
     encode: bool = False
     parquet: bool = False
+    directory: str | None = None
+    """With ``encode``: the output directory the worker writes the chunk's JSONL (and Parquet) files into
+    itself, returning only their names, sizes and sha256 (for workers that share the directory's file
+    system: this process, local worker processes, a LocalCluster); None to return the bytes."""
 
 
 @dataclass(frozen=True)
@@ -107,6 +111,11 @@ class ChunkResult:
     molecules: tuple[dict[str, Any], ...] | None = None
     jsonl: bytes | None = None
     parquet: bytes | None = None
+    files: Mapping[str, Mapping[str, Any]] | None = None
+    """Set instead of ``jsonl`` and ``parquet`` when the worker wrote them into
+    :attr:`ChunkOptions.directory`: kind -> ``{"name", "bytes", "sha256"}``."""
+    lines: int | None = None
+    """With ``files``: the number of JSON lines the worker wrote."""
     worker: str = field(default="", compare=False)
 
 
@@ -178,9 +187,12 @@ def check_result(job: ChunkJob, result: ChunkResult) -> ChunkResult:
             f"chunk {job.number} (records {job.first}..{job.last}): the summary counts "
             f"{result.summary.records} records, expected {job.count}"
         )
-    delivered = (
-        len(result.molecules) if result.molecules is not None else (result.jsonl or b"").count(b"\n")
-    )
+    if result.molecules is not None:
+        delivered = len(result.molecules)
+    elif result.files is not None:
+        delivered = result.lines or 0
+    else:
+        delivered = (result.jsonl or b"").count(b"\n")
     if delivered != job.count:
         raise EngineError(
             f"chunk {job.number} (records {job.first}..{job.last}): {delivered} molecules delivered, "

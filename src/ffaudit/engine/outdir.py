@@ -114,6 +114,21 @@ def write_atomic(target: Path, data: bytes) -> None:
         raise UsageError(f"cannot write {target}: {exc.strerror or exc}") from exc
 
 
+def write_chunk_files(
+    directory: str | os.PathLike[str], number: int, payloads: Mapping[str, bytes]
+) -> dict[str, dict[str, Any]]:
+    """Write chunk ``number``'s files (kind -> bytes) atomically into ``directory``; kind -> ``{"name",
+    "bytes", "sha256"}`` as the manifest lists them. Workers call it for their own chunks (see
+    :attr:`~ffaudit.engine.base.ChunkOptions.directory`). Raises :class:`UsageError` naming a file that
+    cannot be written."""
+    files: dict[str, dict[str, Any]] = {}
+    for kind, data in payloads.items():
+        name = chunk_file(number, kind)
+        write_atomic(Path(directory) / name, data)
+        files[kind] = {"name": name, "bytes": len(data), "sha256": hashlib.sha256(data).hexdigest()}
+    return files
+
+
 def _json_bytes(obj: Any) -> bytes:
     return (json.dumps(obj, ensure_ascii=False, indent=1, sort_keys=False) + "\n").encode("utf-8")
 
@@ -302,25 +317,21 @@ class OutputDirectory:
         Raises :class:`EngineError` when the result has no encoded molecules (or no Parquet when this
         directory wants it), and :class:`UsageError` when a file cannot be written.
         """
-        if result.jsonl is None or (self.parquet and result.parquet is None):
+        wanted = {"jsonl"} | ({"parquet"} if self.parquet else set())
+        if result.files is not None:  # the worker wrote them: check they are this chunk's and in place
+            files = {kind: dict(info) for kind, info in result.files.items()}
+            self._check_written(result.number, files, wanted)
+        elif result.jsonl is None or (self.parquet and result.parquet is None):
             raise EngineError(
                 f"chunk {result.number}: the result is not encoded for an output directory"
             )
-        payloads = {
-            "jsonl": result.jsonl,
-            "summary": _json_bytes(summary_state(result.summary)),
-        }
-        if self.parquet and result.parquet is not None:
-            payloads["parquet"] = result.parquet
-        files: dict[str, dict[str, Any]] = {}
-        for kind, data in payloads.items():
-            name = chunk_file(result.number, kind)
-            write_atomic(self.path / name, data)
-            files[kind] = {
-                "name": name,
-                "bytes": len(data),
-                "sha256": hashlib.sha256(data).hexdigest(),
-            }
+        else:
+            payloads = {"jsonl": result.jsonl}
+            if self.parquet and result.parquet is not None:
+                payloads["parquet"] = result.parquet
+            files = write_chunk_files(self.path, result.number, payloads)
+        summary = _json_bytes(summary_state(result.summary))
+        files.update(write_chunk_files(self.path, result.number, {"summary": summary}))
         chunk = ChunkRecord(result.number, result.first, result.count, dict(sorted(files.items())))
         try:
             with open(self.path / JOURNAL, "a", encoding="utf-8") as journal:
@@ -329,6 +340,31 @@ class OutputDirectory:
             raise UsageError(f"cannot write {self.path / JOURNAL}: {exc.strerror or exc}") from exc
         self.done[result.number] = chunk
         return chunk
+
+    def _check_written(
+        self, number: int, files: Mapping[str, Mapping[str, Any]], wanted: set[str]
+    ) -> None:
+        """Raise :class:`EngineError` unless a worker's report names exactly this chunk's ``wanted`` files
+        and each is in the directory with the reported size (its sha256 is checked on ``--resume``)."""
+        if set(files) != wanted:
+            raise EngineError(
+                f"chunk {number}: the worker wrote {sorted(files)}, expected {sorted(wanted)}"
+            )
+        for kind, info in files.items():
+            name = chunk_file(number, kind)
+            if info.get("name") != name:
+                raise EngineError(f"chunk {number}: the worker wrote {info.get('name')}, not {name}")
+            try:
+                size = (self.path / name).stat().st_size
+            except OSError as exc:
+                raise EngineError(
+                    f"chunk {number}: {self.path / name} is not there: {exc.strerror or exc}"
+                ) from exc
+            if size != info.get("bytes"):
+                raise EngineError(
+                    f"chunk {number}: {self.path / name} has {size} bytes, the worker wrote "
+                    f"{info.get('bytes')}"
+                )
 
     def load_summary(self, pset: ParameterSet, chunk: ChunkRecord) -> Summary:
         """The summary of a finished chunk, read from its verified file.

@@ -111,6 +111,20 @@ def _run_chunk(context: AuditContext, job: ChunkJob, options: ChunkOptions) -> C
         from ffaudit.engine.parquet import molecules_to_parquet
 
         parquet = molecules_to_parquet([a.to_dict(pset, terms) for a in audits])
+    if options.directory is not None:
+        from ffaudit.engine.outdir import write_chunk_files
+
+        payloads = {"jsonl": text} if parquet is None else {"jsonl": text, "parquet": parquet}
+        files = write_chunk_files(options.directory, job.number, payloads)
+        return ChunkResult(
+            job.number,
+            job.first,
+            job.count,
+            summary,
+            files=files,
+            lines=text.count(b"\n"),
+            worker=worker,
+        )
     return ChunkResult(
         job.number, job.first, job.count, summary, jsonl=text, parquet=parquet, worker=worker
     )
