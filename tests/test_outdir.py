@@ -274,3 +274,24 @@ def test_a_worker_report_that_does_not_match_the_directory_is_refused(tmp_path):
     with pytest.raises(EngineError, match="is not there"):
         out.write_chunk(result(files))
     assert out.done == {}
+
+
+@needs_pyarrow
+@pytest.mark.parametrize("terms", ["all", "problems", "none"])
+def test_parquet_from_term_tables_equals_parquet_from_dicts(tmp_path, library, terms):
+    """Workers build Parquet chunks from the audits' term tables; the bytes must be those of the dict
+    path (molecules_to_parquet of to_dict), on NCI records plus molecules with rule estimates, an
+    unclassified atom and an unreadable record."""
+    from ffaudit.engine.batch import fast_auditor
+    from ffaudit.engine.parquet import audits_to_parquet, molecules_to_parquet
+
+    extra = tmp_path / "extra.smi"
+    extra.write_text("C[Se]C selenide\nB(O)(O)c1ccccc1 boronic\nC1CC unclosed\n[Xe] xenon\n")
+    context = AuditContext(load_parameter_set())
+    records = [*iter_records(library), *iter_records(str(extra))]
+    audits = list(fast_auditor(context).audit_records(records))
+    statuses = {a.status for a in audits}
+    assert {"estimated", "unreadable"} <= statuses
+    assert any(r.tier == "estimate" for a in audits for r in a.resolutions)
+    dicts = [a.to_dict(context.pset, terms) for a in audits]
+    assert audits_to_parquet(audits, context.pset, terms) == molecules_to_parquet(dicts)

@@ -305,6 +305,21 @@ class TermTable(Sequence[Resolution]):
                 out[key] = shared[key].output(pset, a)
         return out
 
+    def listed(self, terms: str) -> list[tuple[SharedOutcome | Resolution, tuple[int, ...]]]:
+        """The listed terms (``terms``: all, problems, none), in order, as (their shared outcome or their
+        own resolution, atoms): what an output builds on without a dict per term."""
+        atoms, keys, shared, own = self._atoms, self._keys, self._shared, self._own
+        out: list[tuple[SharedOutcome | Resolution, tuple[int, ...]]] = []
+        for i in self._listed(terms):
+            key = keys[i]
+            if key == OWN:
+                out.append((own[i], own[i].term.atoms))
+            else:
+                a = atoms[i]
+                assert a is not None
+                out.append((shared[key], a))
+        return out
+
     def term_dicts(self, pset: ParameterSet, terms: str = "all") -> list[dict[str, Any]]:
         """The listed term dicts (``terms``: all, problems or none), as :func:`resolution_dict` makes them."""
         positions = self._listed(terms)

@@ -13,7 +13,14 @@ from __future__ import annotations
 import io
 import json
 from collections.abc import Mapping, Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
+
+from ffaudit.resolve.driver import Resolution
+from ffaudit.termdict import resolution_dict
+
+if TYPE_CHECKING:
+    from ffaudit.audit import MoleculeAudit
+    from ffaudit.paramset.model import ParameterSet
 
 try:
     import pyarrow as pa
@@ -137,8 +144,7 @@ def _terms_column(molecules: Sequence[Mapping[str, Any]], memo: dict[int, str | 
             values(_dumps_shared(term.get("values"), memo))
             prov(_dumps_shared(term.get("provenance"), memo))
             reason(term.get("reason"))
-            more = term.keys() - _TERM_FIELDS
-            extra(_dumps({k: term[k] for k in term if k in more}) if more else None)
+            extra(_extra_json(term))
         offsets.append(len(columns["kind"]))
     struct = _term_type()
     arrays = [
@@ -147,6 +153,86 @@ def _terms_column(molecules: Sequence[Mapping[str, Any]], memo: dict[int, str | 
     ]
     terms = pa.StructArray.from_arrays(arrays, fields=list(struct))
     return pa.ListArray.from_arrays(pa.array(offsets, type=pa.int32()), terms)
+
+
+def _extra_json(term: Mapping[str, Any]) -> str | None:
+    more = term.keys() - _TERM_FIELDS
+    return _dumps({k: term[k] for k in term if k in more}) if more else None
+
+
+def _term_row(term: Mapping[str, Any], memo: dict[int, str | None]) -> dict[str, Any]:
+    """A term dict's column values, all but ``atoms``."""
+    return {
+        "kind": term.get("kind"),
+        "classes": list(term.get("classes") or ()),
+        "order": term.get("order"),
+        "tier": term.get("tier"),
+        "score": term.get("score"),
+        "form": term.get("form"),
+        "values_json": _dumps_shared(term.get("values"), memo),
+        "provenance_json": _dumps_shared(term.get("provenance"), memo),
+        "reason": term.get("reason"),
+        "extra_json": _extra_json(term),
+    }
+
+
+def _terms_column_of_audits(
+    audits: Sequence[MoleculeAudit], pset: ParameterSet, terms: str, memo: dict[int, str | None]
+) -> pa.Array:
+    """The ``terms`` column straight from the audits' term tables: the columns of each shared outcome are
+    made once per chunk and repeated with ``take``; only the atoms are per term."""
+    rows: list[dict[str, Any]] = []
+    shown_dicts: list[dict[str, Any]] = []  # kept alive: ``memo`` is keyed by the ids of their values
+    row_of: dict[int, int] = {}
+    picks: list[int] = []
+    atoms: list[list[int]] = []
+    offsets = [0]
+    for audit in audits:
+        for item, term_atoms in audit.table.listed(terms):
+            row = row_of.get(id(item))
+            if row is None:  # items stay alive while the audits do, so their ids are not reused
+                if isinstance(item, Resolution):
+                    shown = resolution_dict(item, pset)
+                else:
+                    shown = {"kind": item.kind, **item.output(pset, term_atoms)[0]}
+                shown_dicts.append(shown)
+                rows.append(_term_row(shown, memo))
+                row = row_of[id(item)] = len(rows) - 1
+            picks.append(row)
+            atoms.append(list(term_atoms))
+        offsets.append(len(picks))
+    struct = _term_type()
+    take = pa.array(picks, type=pa.int32())
+    arrays = []
+    for f in (struct.field(i) for i in range(struct.num_fields)):
+        if f.name == "atoms":
+            arrays.append(pa.array(atoms, type=f.type))
+        else:
+            arrays.append(pa.array([r[f.name] for r in rows], type=f.type).take(take))
+    column = pa.StructArray.from_arrays(arrays, fields=list(struct))
+    return pa.ListArray.from_arrays(pa.array(offsets, type=pa.int32()), column)
+
+
+def audits_to_table(audits: Sequence[MoleculeAudit], pset: ParameterSet, terms: str) -> pa.Table:
+    """The table :func:`molecules_to_table` makes of ``[a.to_dict(pset, terms) for a in audits]``, made
+    without the term dicts. Raises ``ImportError`` without pyarrow."""
+    memo: dict[int, str | None] = {}
+    full = schema()
+    others = pa.schema([f for f in full if f.name != "terms"])
+    rows = [_row(a.to_dict(pset, "none"), memo) for a in audits]
+    table = pa.Table.from_pylist(rows, schema=others)
+    column = _terms_column_of_audits(audits, pset, terms, memo)
+    return pa.Table.from_arrays(
+        [column if f.name == "terms" else table.column(f.name) for f in full], schema=full
+    )
+
+
+def audits_to_parquet(audits: Sequence[MoleculeAudit], pset: ParameterSet, terms: str) -> bytes:
+    """The bytes :func:`molecules_to_parquet` gives for the audits' dicts. Raises ``ImportError`` without
+    pyarrow."""
+    sink = io.BytesIO()
+    pq.write_table(audits_to_table(audits, pset, terms), sink, compression="zstd")
+    return sink.getvalue()
 
 
 def _dumps_shared(value: Any, memo: dict[int, str | None]) -> str | None:

@@ -108,9 +108,9 @@ def _run_chunk(context: AuditContext, job: ChunkJob, options: ChunkOptions) -> C
     text = "".join([a.to_json(pset, terms) + "\n" for a in audits]).encode("utf-8")
     parquet = None
     if options.parquet:
-        from ffaudit.engine.parquet import molecules_to_parquet
+        from ffaudit.engine.parquet import audits_to_parquet
 
-        parquet = molecules_to_parquet([a.to_dict(pset, terms) for a in audits])
+        parquet = audits_to_parquet(audits, pset, terms)
     if options.directory is not None:
         from ffaudit.engine.outdir import write_chunk_files
 
