@@ -187,6 +187,27 @@ def estimated_entry_finding(resolutions: Sequence[Resolution]) -> Finding | None
     )
 
 
+def with_proposals(
+    molh: Chem.Mol, findings: Sequence[Finding]
+) -> tuple[list[Finding], tuple[ProposedClass, ...]]:
+    """A proposed class for each unclassified atom of ``molh`` (explicit hydrogens), and ``findings`` with
+    the proposal added to those atoms' hints (both audit paths call this)."""
+    proposed = tuple(
+        propose_class(molh, f.atoms[0]) for f in findings if f.code == "unclassified-atom"
+    )
+    if not proposed:
+        return list(findings), proposed
+    by_atom = {p.atom: p for p in proposed}
+    return [
+        f.with_(
+            hint=f"{f.hint}; proposed class {by_atom[f.atoms[0]].id}: {by_atom[f.atoms[0]].smarts}"
+        )
+        if f.code == "unclassified-atom"
+        else f
+        for f in findings
+    ], proposed
+
+
 def assemble_audit(
     record: Record,
     *,
@@ -258,19 +279,7 @@ class AuditContext:
         terms = enumerate_terms(molh, class_ids, self.pset.header, self.kinds)
         types = MoleculeTypes(molh) if "estimate" in self.resolver.tiers else None
         resolutions = tuple(self.resolver.resolve(t, types) for t in terms)
-        proposed = tuple(
-            propose_class(molh, f.atoms[0]) for f in findings if f.code == "unclassified-atom"
-        )
-        if proposed:
-            by_atom = {p.atom: p for p in proposed}
-            findings = [
-                f.with_(
-                    hint=f"{f.hint}; proposed class {by_atom[f.atoms[0]].id}: {by_atom[f.atoms[0]].smarts}"
-                )
-                if f.code == "unclassified-atom"
-                else f
-                for f in findings
-            ]
+        findings, proposed = with_proposals(molh, findings)
         return assemble_audit(
             record,
             smiles=smiles,

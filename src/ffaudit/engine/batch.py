@@ -34,8 +34,8 @@ import numpy as np
 from numpy.typing import NDArray
 from rdkit import Chem, rdBase
 
-from ffaudit.audit import AuditContext, MoleculeAudit, assemble_audit
-from ffaudit.findings import Finding, Severity
+from ffaudit.audit import AuditContext, MoleculeAudit, assemble_audit, with_proposals
+from ffaudit.findings import Finding
 from ffaudit.molbatch import (
     BondCodes,
     HydrogenGraph,
@@ -49,7 +49,7 @@ from ffaudit.paramset.canonical import UNASSIGNED
 from ffaudit.paramset.model import KINDS
 from ffaudit.perceive.batch import BatchRules
 from ffaudit.perceive.classes import Assignment
-from ffaudit.perceive.propose import propose_class
+from ffaudit.perceive.propose import ProposedClass
 from ffaudit.read.record import Record
 from ffaudit.resolve.driver import Resolution
 from ffaudit.resolve.estimate import MoleculeTypes
@@ -423,16 +423,9 @@ class FastAuditor:
                         keys_all[offset + i] = OWN
         # every key left in keys_all has a shared outcome (the others were replaced by OWN)
         resolved = TermTable(atoms_all, keys_all, cast("dict[int, SharedOutcome]", outcomes), own)
-        proposed: tuple[Any, ...] = ()
-        if findings:
-            proposed = tuple(propose_class(molh(), f.atoms[0]) for f in findings)
-            by_atom = {p.atom: p for p in proposed}
-            findings = [
-                f.with_(
-                    hint=f"{f.hint}; proposed class {by_atom[f.atoms[0]].id}: {by_atom[f.atoms[0]].smarts}"
-                )
-                for f in findings
-            ]
+        proposed: tuple[ProposedClass, ...] = ()
+        if findings:  # only unclassified-atom findings here
+            findings, proposed = with_proposals(molh(), findings)
         return assemble_audit(
             record,
             smiles=smiles,
@@ -445,24 +438,12 @@ class FastAuditor:
         )
 
     def _unclassified(self, atom: int, element: str) -> Finding:
-        """The finding :meth:`ClassRules.perceive` makes for an atom no rule matches."""
+        """The finding :meth:`ClassRules.perceive` makes for an atom no rule matches (kept per atom and
+        element: the same atoms recur across molecules)."""
         key = (atom, element)
         finding = self._findings.get(key)
         if finding is None:
-            near = self.context.rules.classes_for_element(element)
-            hint = (
-                f"classes for {element} exist ({', '.join(near[:5])}) but none matches this environment"
-                if near
-                else f"the set has no class for element {element}"
-            )
-            finding = Finding(
-                code="unclassified-atom",
-                severity=Severity.WARNING,
-                message=f"atom {atom} ({element}) matches no class rule",
-                atoms=(atom,),
-                cause="no-class",
-                hint=hint,
-            )
+            finding = self.context.rules.unclassified_finding(atom, element)
             self._findings[key] = finding
         return finding
 

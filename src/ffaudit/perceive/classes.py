@@ -92,6 +92,24 @@ class ClassRules:
     def classes_for_element(self, element: str) -> list[str]:
         return list(self._by_element.get(element, []))
 
+    def unclassified_finding(self, atom: int, element: str) -> Finding:
+        """The finding for atom ``atom`` (of ``element``) that no class rule matches, with the element's
+        classes, if any, as the hint."""
+        near = self.classes_for_element(element)
+        hint = (
+            f"classes for {element} exist ({', '.join(near[:5])}) but none matches this environment"
+            if near
+            else f"the set has no class for element {element}"
+        )
+        return Finding(
+            code="unclassified-atom",
+            severity=Severity.WARNING,
+            message=f"atom {atom} ({element}) matches no class rule",
+            atoms=(atom,),
+            cause="no-class",
+            hint=hint,
+        )
+
     def perceive(self, mol: Chem.Mol) -> tuple[list[Assignment], list[Finding]]:
         """Assign a class to every atom of ``mol`` (explicit hydrogens expected).
 
@@ -113,23 +131,7 @@ class ClassRules:
         result: list[Assignment] = []
         for i, a in enumerate(assigned):
             if a is None:
-                element = mol.GetAtomWithIdx(i).GetSymbol()
-                near = self.classes_for_element(element)
-                hint = (
-                    f"classes for {element} exist ({', '.join(near[:5])}) but none matches this environment"
-                    if near
-                    else f"the set has no class for element {element}"
-                )
-                findings.append(
-                    Finding(
-                        code="unclassified-atom",
-                        severity=Severity.WARNING,
-                        message=f"atom {i} ({element}) matches no class rule",
-                        atoms=(i,),
-                        cause="no-class",
-                        hint=hint,
-                    )
-                )
+                findings.append(self.unclassified_finding(i, mol.GetAtomWithIdx(i).GetSymbol()))
                 a = Assignment(i, None, None, None)
             result.append(a)
         return result, findings
