@@ -40,19 +40,7 @@ _SCALARS: tuple[tuple[str, str], ...] = (
     ("atoms", "int64"),
     ("fragments", "int64"),
 )
-_TERM_COLUMNS = (
-    "kind",
-    "atoms",
-    "classes",
-    "order",
-    "tier",
-    "score",
-    "form",
-    "values_json",
-    "provenance_json",
-    "reason",
-    "extra_json",
-)
+# the keys of a term dict that have columns of their own; any other key goes into the term's extra_json
 _TERM_FIELDS = frozenset(
     (
         "kind",
@@ -126,31 +114,37 @@ def schema() -> pa.Schema:
 
 
 def _terms_column(molecules: Sequence[Mapping[str, Any]], memo: dict[int, str | None]) -> pa.Array:
-    """The ``terms`` column, built column by column (a row of structs per term is several times slower)."""
-    columns: dict[str, list[Any]] = {name: [] for name in _TERM_COLUMNS}
-    kind, atoms, classes, order, tier, score, form, values, prov, reason, extra = (
-        columns[name].append for name in _TERM_COLUMNS
-    )
+    """The ``terms`` column of molecule dicts, built column by column (a row of structs per term is
+    several times slower)."""
+    rows: list[dict[str, Any]] = []
+    atoms: list[list[int]] = []
     offsets = [0]
     for molecule in molecules:
         for term in molecule.get("terms") or ():
-            kind(term.get("kind"))
-            atoms(term.get("atoms") or [])
-            classes(term.get("classes") or [])
-            order(term.get("order"))
-            tier(term.get("tier"))
-            score(term.get("score"))
-            form(term.get("form"))
-            values(_dumps_shared(term.get("values"), memo))
-            prov(_dumps_shared(term.get("provenance"), memo))
-            reason(term.get("reason"))
-            extra(_extra_json(term))
-        offsets.append(len(columns["kind"]))
+            rows.append(_term_row(term, memo))
+            atoms.append(list(term.get("atoms") or ()))
+        offsets.append(len(rows))
+    return _terms_array(rows, None, atoms, offsets)
+
+
+def _terms_array(
+    rows: Sequence[Mapping[str, Any]],
+    picks: Sequence[int] | None,
+    atoms: Sequence[Sequence[int]],
+    offsets: Sequence[int],
+) -> pa.Array:
+    """The list-of-struct ``terms`` column: term ``j`` has the columns of ``rows[picks[j]]`` (of
+    ``rows[j]`` when ``picks`` is None) and ``atoms[j]``; molecule ``i`` has terms ``offsets[i]`` to
+    ``offsets[i + 1]``."""
     struct = _term_type()
-    arrays = [
-        pa.array(columns[f.name], type=f.type)
-        for f in (struct.field(i) for i in range(struct.num_fields))
-    ]
+    take = None if picks is None else pa.array(picks, type=pa.int32())
+    arrays = []
+    for f in (struct.field(i) for i in range(struct.num_fields)):
+        if f.name == "atoms":
+            arrays.append(pa.array(atoms, type=f.type))
+            continue
+        column = pa.array([r[f.name] for r in rows], type=f.type)
+        arrays.append(column if take is None else column.take(take))
     terms = pa.StructArray.from_arrays(arrays, fields=list(struct))
     return pa.ListArray.from_arrays(pa.array(offsets, type=pa.int32()), terms)
 
@@ -201,16 +195,7 @@ def _terms_column_of_audits(
             picks.append(row)
             atoms.append(list(term_atoms))
         offsets.append(len(picks))
-    struct = _term_type()
-    take = pa.array(picks, type=pa.int32())
-    arrays = []
-    for f in (struct.field(i) for i in range(struct.num_fields)):
-        if f.name == "atoms":
-            arrays.append(pa.array(atoms, type=f.type))
-        else:
-            arrays.append(pa.array([r[f.name] for r in rows], type=f.type).take(take))
-    column = pa.StructArray.from_arrays(arrays, fields=list(struct))
-    return pa.ListArray.from_arrays(pa.array(offsets, type=pa.int32()), column)
+    return _terms_array(rows, picks, atoms, offsets)
 
 
 def audits_to_table(audits: Sequence[MoleculeAudit], pset: ParameterSet, terms: str) -> pa.Table:
