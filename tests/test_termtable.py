@@ -21,11 +21,11 @@ from ffaudit.paramset.load import load_parameter_set
 from ffaudit.paramset.model import Entry, ParameterSet
 from ffaudit.read.record import Record
 from ffaudit.report.jsonl import dump_compact
-from ffaudit.resolve.driver import Resolution
+from ffaudit.resolve.driver import Resolution, SharedEstimate
 from ffaudit.score import TIERS
 from ffaudit.termdict import resolution_dict
 from ffaudit.terms import Term
-from ffaudit.termtable import OWN, PROBLEM_TIERS, SharedOutcome, TermTable
+from ffaudit.termtable import ESTIMATED, OWN, PROBLEM_TIERS, SharedOutcome, TermTable
 
 PSET = load_parameter_set()
 SIZES = {"bond": 2, "angle": 3, "dihedral": 4, "out_of_plane": 4, "nonbonded": 1}
@@ -39,6 +39,35 @@ def _outcome(kind: str, tier: str, score: float, pick: int) -> SharedOutcome:
     subs = ((0, "a", "b"),) if tier in ("parent", "analogy") else ()
     reason = "no parameter" if tier == "missing" else None
     return SharedOutcome(kind, classes, order, None, tier, entry, score, reason, None, subs)
+
+
+
+def _real_estimates() -> list[SharedEstimate]:
+    """Shared rule estimates the resolver made for real molecules with the embedded set: every kind, and
+    terms with an unclassified atom (phosphorus, whose reason names the atom)."""
+    from rdkit import Chem
+
+    from ffaudit.audit import AuditContext
+    from ffaudit.engine.batch import audit_records
+
+    context = AuditContext(PSET)
+    smiles = ["CP(=O)(O)c1ccccc1N=Nc1ccc(C#N)cc1", "C=CC(=O)Nc1ncccc1S(=O)(=O)N", "CC#CC(=O)OC"]
+    records = [Record(i, "<test>", i + 1, i + 1, s, Chem.MolFromSmiles(s)) for i, s in enumerate(smiles)]
+    found: dict[int, SharedEstimate] = {}
+    for audit in audit_records(context, records):
+        for item, _ in audit.table.listed("all"):
+            if isinstance(item, SharedEstimate):
+                found[id(item)] = item
+    return list(found.values())
+
+
+ESTIMATES = _real_estimates()
+
+
+def test_real_estimates_cover_the_kinds_and_unclassified_atoms() -> None:
+    """The pool the random tables draw from is what it claims to be."""
+    assert {e.kind for e in ESTIMATES} >= {"bond", "angle", "dihedral", "out_of_plane"}
+    assert any(e.cause == "no-class" for e in ESTIMATES)
 
 
 outcomes_st = st.lists(
@@ -62,12 +91,22 @@ def tables(draw: st.DrawFn) -> tuple[TermTable, tuple[Resolution, ...]]:
     keys: list[int] = []
     atoms: list[tuple[int, ...] | None] = []
     own: dict[int, Resolution] = {}
+    estimated: dict[int, SharedEstimate] = {}
     expected: list[Resolution] = []
     for i in range(n):
         key = draw(st.integers(0, len(outcomes) - 1))
         kind = outcomes[key].kind
         a = tuple(draw(st.lists(st.integers(0, 40), min_size=SIZES[kind], max_size=SIZES[kind])))
-        if draw(st.integers(0, 4)) == 0:  # a term with a resolution of its own (an estimate)
+        pick = draw(st.integers(0, 4))
+        if pick == 1:  # a shared rule estimate
+            shared = draw(st.sampled_from(ESTIMATES))
+            size = SIZES[shared.kind]
+            a = tuple(draw(st.lists(st.integers(0, 40), min_size=size, max_size=size)))
+            estimated[i] = shared
+            keys.append(ESTIMATED)
+            atoms.append(a)
+            expected.append(shared.resolution(a))
+        elif pick == 0:  # a term with a resolution of its own
             entry = ENTRIES[kind][0]
             term = Term(kind, a, entry.classes, outcomes[key].order, None)
             r = Resolution(
@@ -86,7 +125,7 @@ def tables(draw: st.DrawFn) -> tuple[TermTable, tuple[Resolution, ...]]:
             keys.append(key)
             atoms.append(a)
             expected.append(outcomes[key].resolution(a))
-    return TermTable(atoms, keys, outcomes, own), tuple(expected)
+    return TermTable(atoms, keys, outcomes, own, estimated), tuple(expected)
 
 
 @settings(max_examples=150, deadline=None)

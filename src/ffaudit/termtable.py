@@ -4,8 +4,10 @@ A molecule has about 200 terms, and most of them share their outcome with many o
 (the fast path resolves each distinct tuple once). Building a :class:`Term` and a :class:`Resolution` object
 per term, and then a dict and JSON text per term, cost more than all the rest of an audit. A
 :class:`TermTable` keeps per term only its atoms and a key into a table of :class:`SharedOutcome`, plus
-the resolutions made for single terms (rule estimates, terms with an unclassified atom). Objects are built
-only when someone iterates or indexes the table; the totals an audit needs (counts by kind and tier, the
+the resolutions made for single terms (terms with an unclassified atom, failed estimates), and for rule
+estimates a key into the resolver's :class:`SharedEstimate` (terms with the same tuple and estimate signature
+share everything but the atom numbers their provenance names). Objects are built only when someone iterates
+or indexes the table; the totals an audit needs (counts by kind and tier, the
 lowest score, the missing terms) and the listed terms (dicts, or JSON text byte-identical to encoding those
 dicts) come from the shared outcomes directly.
 
@@ -15,12 +17,13 @@ two tables are equal when their resolutions are, whatever their storage.
 
 from __future__ import annotations
 
+import re
 from collections import Counter
 from collections.abc import Iterable, Iterator, Mapping, Sequence
 from typing import Any, overload
 
 from ffaudit.paramset.model import Entry, ParameterSet
-from ffaudit.resolve.driver import Resolution
+from ffaudit.resolve.driver import Resolution, SharedEstimate
 from ffaudit.score import TIERS
 from ffaudit.termdict import resolution_dict
 from ffaudit.terms import Term
@@ -30,6 +33,9 @@ PROBLEM_TIERS = frozenset(TIERS) - {"exact"}
 
 OWN = -1
 """The key of a term whose resolution is its own (kept in the table's ``own`` mapping)."""
+
+ESTIMATED = -2
+"""The key of a term resolved by a shared rule estimate (kept in the table's ``estimated`` mapping)."""
 
 
 def _compact(obj: Any) -> str:
@@ -135,15 +141,44 @@ def _atom_text(atoms: tuple[int, ...]) -> str:
     return text
 
 
+_SENTINEL = -(10**15)
+"""Atom numbers ``_SENTINEL - k`` stand for atom ``k`` while an estimate's JSON template is made: no real
+atom index or value (6 significant digits) prints as ``-100000000000000k``."""
+_SLOT = re.compile(r"-10{14}([0-9])")
+
+
+def estimate_json(shared: SharedEstimate, pset: ParameterSet, atoms: tuple[int, ...]) -> str:
+    """The compact JSON of the term dict of the estimate ``shared`` on ``atoms``: byte-identical to encoding
+    :func:`resolution_dict` of its resolution. The text is made once per estimate and set, from a real
+    resolution on stand-in atoms, and split where the atom numbers go."""
+    template = shared.template
+    if template is None or template[0] is not pset:
+        stand_in = tuple(_SENTINEL - k for k in range(len(atoms)))
+        text = _compact(resolution_dict(shared.resolution(stand_in), pset))
+        pieces = _SLOT.split(text)  # literal, slot, literal, slot, ..., literal
+        template = (pset, pieces[0::2], [int(k) for k in pieces[1::2]])
+        shared.template = template
+    literals, slots = template[1], template[2]
+    parts = [literals[0]]
+    for slot, literal in zip(slots, literals[1:], strict=True):
+        parts.append(str(atoms[slot]))
+        parts.append(literal)
+    return "".join(parts)
+
+
 class TermTable(Sequence[Resolution]):
     """The resolutions of one molecule's terms, in term order (see the module docstring).
 
-    ``atoms[i]`` and ``keys[i]`` describe term ``i``: ``shared[keys[i]]`` is its outcome, or ``keys[i]`` is
-    :data:`OWN` and ``own[i]`` is its resolution (``atoms[i]`` is then unused). The table never changes;
-    ``shared`` may be a larger mapping (the fast path's, shared by many tables) that only grows.
+    ``atoms[i]`` and ``keys[i]`` describe term ``i``: ``shared[keys[i]]`` is its outcome; or ``keys[i]`` is
+    :data:`ESTIMATED` and ``estimated[i]`` its shared estimate; or ``keys[i]`` is :data:`OWN` and ``own[i]``
+    is its resolution (``atoms[i]`` is then unused). The table never changes; ``shared`` may be a larger
+    mapping (the fast path's, shared by many tables) that only grows. Raises ``ValueError`` when the
+    lengths of ``atoms`` and ``keys`` differ.
     """
 
-    __slots__ = ("_atoms", "_keys", "_shared", "_own", "_items", "_groups", "_counts")
+    __slots__ = (
+        "_atoms", "_keys", "_shared", "_own", "_estimated", "_items", "_groups", "_counts",
+    )  # fmt: skip
 
     def __init__(
         self,
@@ -151,6 +186,7 @@ class TermTable(Sequence[Resolution]):
         keys: Sequence[int],
         shared: Mapping[int, SharedOutcome],
         own: Mapping[int, Resolution],
+        estimated: Mapping[int, SharedEstimate] | None = None,
     ) -> None:
         if len(atoms) != len(keys):
             raise ValueError(f"{len(atoms)} atom tuples for {len(keys)} keys")
@@ -158,6 +194,7 @@ class TermTable(Sequence[Resolution]):
         self._keys = keys
         self._shared = shared
         self._own = own
+        self._estimated: Mapping[int, SharedEstimate] = estimated or {}
         self._items: tuple[Resolution, ...] | None = None
         self._groups: list[tuple[str, str, Entry | None, float, int]] | None = None
         self._counts: Counter[tuple[str, str]] | None = None
@@ -178,6 +215,8 @@ class TermTable(Sequence[Resolution]):
             return self._own[i]
         atoms = self._atoms[i]
         assert atoms is not None
+        if key == ESTIMATED:
+            return self._estimated[i].resolution(atoms)
         return self._shared[key].resolution(atoms)
 
     def resolutions(self) -> tuple[Resolution, ...]:
@@ -226,9 +265,11 @@ class TermTable(Sequence[Resolution]):
         out: list[tuple[str, str, Entry | None, float, int]] = []
         shared = self._shared
         for key, n in Counter(self._keys).items():
-            if key != OWN:
+            if key >= 0:
                 o = shared[key]
                 out.append((o.kind, o.tier, o.entry, o.score, n))
+        for e, n in Counter(self._estimated.values()).items():
+            out.append((e.kind, e.tier, e.entry, e.score, n))
         for r in self._own.values():
             out.append((r.term.kind, r.tier, r.entry, r.score, 1))
         self._groups = out
@@ -248,14 +289,13 @@ class TermTable(Sequence[Resolution]):
         if not self._keys:
             return None
         shared = self._shared
-        distinct = [k for k in dict.fromkeys(self._keys) if k != OWN]
-        low = min(
-            [shared[k].score for k in distinct] + [r.score for r in self._own.values()]
-        )
+        distinct = [k for k in dict.fromkeys(self._keys) if k >= 0]
+        others = list(self._own.items()) + list(self._estimated.items())
+        low = min([shared[k].score for k in distinct] + [r.score for _, r in others])
         keys = self._keys
         first = min(
             [keys.index(k) for k in distinct if shared[k].score == low]
-            + [i for i, r in self._own.items() if r.score == low]
+            + [i for i, r in others if r.score == low]
         )
         return self._item(first)
 
@@ -272,7 +312,9 @@ class TermTable(Sequence[Resolution]):
         if hits == len(groups):
             return list(range(n))
         shared = self._shared
-        keep = {k for k in set(self._keys) if k != OWN and shared[k].tier in wanted}
+        keep = {k for k in set(self._keys) if k >= 0 and shared[k].tier in wanted}
+        if "estimate" in wanted:
+            keep.add(ESTIMATED)
         if not self._own:
             return [i for i, k in enumerate(self._keys) if k in keep]
         own = {i for i, r in self._own.items() if r.tier in wanted}
@@ -299,25 +341,27 @@ class TermTable(Sequence[Resolution]):
         out: dict[int, tuple[dict[str, Any], str, str]] = {}
         for i in positions:
             key = keys[i]
-            if key != OWN and key not in out:
+            if key >= 0 and key not in out:
                 a = atoms[i]
                 assert a is not None
                 out[key] = shared[key].output(pset, a)
         return out
 
-    def listed(self, terms: str) -> list[tuple[SharedOutcome | Resolution, tuple[int, ...]]]:
-        """The listed terms (``terms``: all, problems, none), in order, as (their shared outcome or their
-        own resolution, atoms): what an output builds on without a dict per term."""
+    def listed(
+        self, terms: str
+    ) -> list[tuple[SharedOutcome | SharedEstimate | Resolution, tuple[int, ...]]]:
+        """The listed terms (``terms``: all, problems, none), in order, as (their shared outcome, shared
+        estimate or own resolution, atoms): what an output builds on without a dict per term."""
         atoms, keys, shared, own = self._atoms, self._keys, self._shared, self._own
-        out: list[tuple[SharedOutcome | Resolution, tuple[int, ...]]] = []
+        out: list[tuple[SharedOutcome | SharedEstimate | Resolution, tuple[int, ...]]] = []
         for i in self._listed(terms):
             key = keys[i]
             if key == OWN:
                 out.append((own[i], own[i].term.atoms))
-            else:
-                a = atoms[i]
-                assert a is not None
-                out.append((shared[key], a))
+                continue
+            a = atoms[i]
+            assert a is not None
+            out.append((self._estimated[i] if key == ESTIMATED else shared[key], a))
         return out
 
     def term_dicts(self, pset: ParameterSet, terms: str = "all") -> list[dict[str, Any]]:
@@ -331,6 +375,10 @@ class TermTable(Sequence[Resolution]):
             key = keys[i]
             if key == OWN:
                 append(resolution_dict(own[i], pset))
+            elif key == ESTIMATED:
+                a = atoms[i]
+                assert a is not None
+                append(resolution_dict(self._estimated[i].resolution(a), pset))
             else:
                 a = atoms[i]
                 assert a is not None
@@ -346,12 +394,14 @@ class TermTable(Sequence[Resolution]):
         outputs = self._outputs(pset, positions)
         before = {k: v[1] for k, v in outputs.items()}
         after = {k: v[2] for k, v in outputs.items()}
-        atoms, keys, own = self._atoms, self._keys, self._own
+        atoms, keys, own, estimated = self._atoms, self._keys, self._own, self._estimated
         texts = _ATOM_TEXT
         parts = [
-            _compact(resolution_dict(own[i], pset))
-            if keys[i] == OWN
-            else before[keys[i]] + (texts.get(atoms[i]) or _atom_text(atoms[i])) + after[keys[i]]  # type: ignore[arg-type]
+            before[keys[i]] + (texts.get(atoms[i]) or _atom_text(atoms[i])) + after[keys[i]]  # type: ignore[arg-type]
+            if keys[i] >= 0
+            else estimate_json(estimated[i], pset, atoms[i])  # type: ignore[arg-type]
+            if keys[i] == ESTIMATED
+            else _compact(resolution_dict(own[i], pset))
             for i in positions
         ]
         return "[" + ",".join(parts) + "]"

@@ -51,11 +51,11 @@ from ffaudit.perceive.batch import BatchRules
 from ffaudit.perceive.classes import Assignment
 from ffaudit.perceive.propose import ProposedClass
 from ffaudit.read.record import Record
-from ffaudit.resolve.driver import Resolution
+from ffaudit.resolve.driver import Resolution, SharedEstimate
 from ffaudit.resolve.estimate import MoleculeTypes
 from ffaudit.terms import Term
 from ffaudit.terms_batch import NO_QUALIFIER, KindTerms, enumerate_batch
-from ffaudit.termtable import OWN, SharedOutcome, TermTable
+from ffaudit.termtable import ESTIMATED, OWN, SharedOutcome, TermTable
 
 IntArray = NDArray[np.int64]
 
@@ -386,6 +386,7 @@ class FastAuditor:
         atoms_all: list[tuple[int, ...] | None] = []
         keys_all: list[int] = []
         own: dict[int, Resolution] = {}
+        estimated: dict[int, SharedEstimate] = {}
         for rows in done.rows:
             start, end = int(rows.bounds[m]), int(rows.bounds[m + 1])
             if start == end:
@@ -419,10 +420,21 @@ class FastAuditor:
                     if key in single:
                         info = infos[key]
                         term = Term(rows.kind, atoms[i], info.classes, info.order, info.ring)
-                        own[offset + i] = resolver.resolve(term, types())
-                        keys_all[offset + i] = OWN
-        # every key left in keys_all has a shared outcome (the others were replaced by OWN)
-        resolved = TermTable(atoms_all, keys_all, cast("dict[int, SharedOutcome]", outcomes), own)
+                        found = (
+                            resolver.estimate(term, cast("MoleculeTypes", types()))
+                            if self._estimate
+                            else resolver.resolve(term, None)
+                        )
+                        if isinstance(found, SharedEstimate):
+                            estimated[offset + i] = found
+                            keys_all[offset + i] = ESTIMATED
+                        else:
+                            own[offset + i] = found
+                            keys_all[offset + i] = OWN
+        # every key left in keys_all has a shared outcome (the others were replaced by OWN or ESTIMATED)
+        resolved = TermTable(
+            atoms_all, keys_all, cast("dict[int, SharedOutcome]", outcomes), own, estimated
+        )
         proposed: tuple[ProposedClass, ...] = ()
         if findings:  # only unclassified-atom findings here
             findings, proposed = with_proposals(molh(), findings)

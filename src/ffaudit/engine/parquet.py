@@ -15,7 +15,7 @@ import json
 from collections.abc import Mapping, Sequence
 from typing import TYPE_CHECKING, Any
 
-from ffaudit.resolve.driver import Resolution
+from ffaudit.resolve.driver import Resolution, SharedEstimate
 from ffaudit.termdict import resolution_dict
 
 if TYPE_CHECKING:
@@ -183,6 +183,13 @@ def _terms_column_of_audits(
     offsets = [0]
     for audit in audits:
         for item, term_atoms in audit.table.listed(terms):
+            if isinstance(item, SharedEstimate):  # its provenance names the atoms: a row per term
+                shown = resolution_dict(item.resolution(term_atoms), pset)
+                shown_dicts.append(shown)
+                rows.append(_term_row(shown, memo))
+                picks.append(len(rows) - 1)
+                atoms.append(list(term_atoms))
+                continue
             row = row_of.get(id(item))
             if row is None:  # items stay alive while the audits do, so their ids are not reused
                 if isinstance(item, Resolution):

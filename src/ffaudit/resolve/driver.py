@@ -13,10 +13,19 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
+from ffaudit.estimate.uff_types import UffTyping
 from ffaudit.paramset.canonical import UNASSIGNED
 from ffaudit.paramset.model import Entry, FourierTerm, ParameterSet, SourceLocation
 from ffaudit.resolve.analogy import AnalogyFinder
-from ffaudit.resolve.estimate import MoleculeTypes, estimate_term
+from ffaudit.resolve.estimate import (
+    Estimate,
+    MoleculeTypes,
+    Signature,
+    assumed_types,
+    estimate_from_signature,
+    estimate_signature,
+    with_assumed,
+)
 from ffaudit.resolve.exact import match_exact
 from ffaudit.resolve.index import TableIndex
 from ffaudit.resolve.parent import match_parent
@@ -53,6 +62,82 @@ class _Outcome:
     substitutions: tuple[tuple[int, str, str], ...] = ()
 
 
+def no_class_reason(atoms: tuple[int, ...], classes: tuple[str, ...]) -> str:
+    """The reason a term with unclassified atoms has no set parameter: it names those atoms."""
+    unassigned = ", ".join(str(atoms[i]) for i, c in enumerate(classes) if c == UNASSIGNED)
+    return f"atom {unassigned} has no class (no class rule matches)"
+
+
+ESTIMATE_CACHE_LIMIT = 50_000
+"""Signatures whose estimates the resolver keeps; the cache is emptied when it is full (memory stays
+bounded on diverse libraries; the next terms are estimated anew)."""
+
+
+class SharedEstimate:
+    """A rule estimate shared by every term of one tuple and one estimate signature (the same UFF types and
+    the same facts the rule reads): all of the term's resolution but its atoms, which only the provenance's
+    ``assumed`` list names, and for a term with unclassified atoms the reason.
+
+    Termtable output code may keep the term's JSON template in ``template``.
+    """
+
+    __slots__ = (
+        "kind", "classes", "order", "ring", "entry", "score", "reason", "cause", "estimate",
+        "typings", "template",
+    )  # fmt: skip
+    tier = "estimate"
+    substitutions: tuple[tuple[int, str, str], ...] = ()
+
+    def __init__(
+        self,
+        kind: str,
+        classes: tuple[str, ...],
+        order: str | None,
+        ring: bool | None,
+        entry: Entry,
+        score: float,
+        reason: str | None,
+        cause: str | None,
+        estimate: Estimate,
+        typings: tuple[UffTyping, ...],
+    ) -> None:
+        self.kind = kind
+        self.classes = classes
+        self.order = order
+        self.ring = ring
+        self.entry = entry
+        self.score = score
+        self.reason = reason
+        self.cause = cause
+        self.estimate = estimate
+        self.typings = typings
+        self.template: Any = None
+
+    def details(self, atoms: tuple[int, ...]) -> dict[str, Any]:
+        """The provenance details of the term on ``atoms``: rule, citation, inputs, cross-checks."""
+        estimate = self.estimate
+        details: dict[str, Any] = {
+            "rule": estimate.rule,
+            "citation": estimate.citation,
+            "inputs": with_assumed(estimate.inputs, assumed_types(atoms, self.typings)),
+        }
+        if estimate.cross_checks:
+            details["cross_checks"] = dict(estimate.cross_checks)
+        return details
+
+    def resolution(self, atoms: tuple[int, ...], term: Term | None = None) -> Resolution:
+        """The resolution of the term on ``atoms`` (``term``, when given, is that term)."""
+        if term is None:
+            term = Term(self.kind, atoms, self.classes, self.order, self.ring)
+        reason = self.reason
+        if self.cause == "no-class":
+            reason = no_class_reason(atoms, self.classes)
+        return Resolution(
+            term, "estimate", self.entry, self.score, reason, self.cause,
+            details=self.details(atoms),
+        )  # fmt: skip
+
+
 class Resolver:
     """Resolves terms against one parameter set. Picklable; the cache is rebuilt per process."""
 
@@ -68,10 +153,12 @@ class Resolver:
         self.score_model = score_model
         self.tiers = tiers
         self._cache: dict[tuple[Any, ...], _Outcome] = {}
+        self._estimates: dict[tuple[Any, ...], SharedEstimate | str] = {}
 
     def __getstate__(self) -> dict[str, Any]:
         state = dict(self.__dict__)
         state["_cache"] = {}
+        state["_estimates"] = {}
         return state
 
     def resolve(self, term: Term, types: MoleculeTypes | None = None) -> Resolution:
@@ -95,10 +182,46 @@ class Resolver:
         )
 
     def _estimate(self, term: Term, types: MoleculeTypes, missing: _Outcome) -> Resolution:
-        estimate, why = estimate_term(term, types)
-        if estimate is None:
-            reason = f"{missing.reason}; no estimate: {why}"
+        found = self._estimate_of(term, types, missing)
+        if isinstance(found, SharedEstimate):
+            return found.resolution(term.atoms, term)
+        return found
+
+    def estimate(self, term: Term, types: MoleculeTypes) -> SharedEstimate | Resolution:
+        """The estimate tier for a term the set tiers leave missing: a :class:`SharedEstimate` when the rule
+        gives a value that terms of the same signature share, else the term's own :class:`Resolution`
+        (``missing``, with the reason). Requires the estimate tier; never raises for chemistry the rules
+        cannot handle."""
+        missing = self._cache.get((term.kind, term.classes, term.bond_order, term.in_ring))
+        if missing is None:
+            missing = self._resolve(term)
+        return self._estimate_of(term, types, missing)
+
+    def _estimate_of(
+        self, term: Term, types: MoleculeTypes, missing: _Outcome
+    ) -> SharedEstimate | Resolution:
+        signature = estimate_signature(term, types)
+        if isinstance(signature, str):
+            reason = f"{missing.reason}; no estimate: {signature}"
             return Resolution(term, "missing", None, 0.0, reason, missing.cause)
+        key = (term.kind, term.classes, term.bond_order, term.in_ring, signature)
+        shared = self._estimates.get(key)
+        if shared is None:
+            shared = self._share_estimate(term, signature, missing)
+            if len(self._estimates) >= ESTIMATE_CACHE_LIMIT:
+                self._estimates.clear()
+            self._estimates[key] = shared
+        if isinstance(shared, str):
+            reason = f"{missing.reason}; no estimate: {shared}"
+            return Resolution(term, "missing", None, 0.0, reason, missing.cause)
+        return shared
+
+    def _share_estimate(
+        self, term: Term, signature: Signature, missing: _Outcome
+    ) -> SharedEstimate | str:
+        estimate = estimate_from_signature(signature)
+        if isinstance(estimate, str):
+            return estimate
         unassigned = sum(1 for c in term.classes if c == UNASSIGNED)
         entry = Entry(
             kind=term.kind,
@@ -111,30 +234,16 @@ class Resolver:
             fourier=tuple(FourierTerm(n, phase, k) for n, phase, k in estimate.fourier),
             estimated=True,
         )
-        details = {
-            "rule": estimate.rule,
-            "citation": estimate.citation,
-            "inputs": dict(estimate.inputs),
-        }
-        if estimate.cross_checks:
-            details["cross_checks"] = dict(estimate.cross_checks)
         score = self.score_model.score("estimate", 1 + unassigned, rule=estimate.rule)
-        return Resolution(
-            term, "estimate", entry, score, missing.reason, missing.cause, details=details
-        )
+        return SharedEstimate(
+            term.kind, term.classes, term.bond_order, term.in_ring, entry, score,
+            missing.reason, missing.cause, estimate, signature[1],
+        )  # fmt: skip
 
     def _resolve(self, term: Term) -> _Outcome:
         sm = self.score_model
         if UNASSIGNED in term.classes:
-            unassigned = [i for i, c in enumerate(term.classes) if c == UNASSIGNED]
-            atoms = ", ".join(str(term.atoms[i]) for i in unassigned)
-            return _Outcome(
-                "missing",
-                None,
-                0.0,
-                f"atom {atoms} has no class (no class rule matches)",
-                "no-class",
-            )
+            return _Outcome("missing", None, 0.0, no_class_reason(term.atoms, term.classes), "no-class")
         entry = match_exact(self.index, term)
         if entry is not None:
             return _Outcome("exact", entry, sm.score("exact"))

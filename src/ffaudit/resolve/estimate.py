@@ -22,8 +22,9 @@ they stay missing. Nothing here raises: a rule that does not apply gives ``None`
 
 from __future__ import annotations
 
+import contextlib
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 from rdkit import Chem
@@ -65,82 +66,196 @@ class Estimate:
 
 
 class MoleculeTypes:
-    """UFF types of one molecule's atoms, computed on first use."""
+    """UFF types and the few atom and bond facts the rules read, of one molecule, computed on first use.
+
+    Typings are interned process-wide (equal typings are one object, so estimate keys made from them
+    compare at once).
+    """
 
     def __init__(self, mol: Chem.Mol) -> None:
         self.mol = mol
         self._types: dict[int, UffTyping] = {}
+        self._atoms: dict[int, tuple[str, Any, int, frozenset[int]]] = {}
+        self._orders: dict[
+            tuple[int, int], float | str
+        ] = {}  # str: the type of a bond without order
 
     def of(self, atom: int) -> UffTyping:
         typing = self._types.get(atom)
         if typing is None:
             typing = assign_uff_type(self.mol.GetAtomWithIdx(atom))
+            typing = _TYPINGS.setdefault(typing, typing)
             self._types[atom] = typing
         return typing
+
+    def atom(self, index: int) -> tuple[str, Any, int, frozenset[int]]:
+        """(symbol, RDKit hybridisation, degree, neighbour indices) of atom ``index``."""
+        info = self._atoms.get(index)
+        if info is None:
+            a = self.mol.GetAtomWithIdx(index)
+            info = (
+                a.GetSymbol(),
+                a.GetHybridization(),
+                a.GetDegree(),
+                frozenset(n.GetIdx() for n in a.GetNeighbors()),
+            )
+            self._atoms[index] = info
+        return info
+
+    def order(self, i: int, j: int) -> float:
+        """The order of the bond i-j (``GetBondTypeAsDouble``); ``ValueError`` when it has none."""
+        key = (i, j) if i < j else (j, i)
+        order = self._orders.get(key)
+        if order is None:
+            bond = self.mol.GetBondBetweenAtoms(i, j)
+            value = bond.GetBondTypeAsDouble()
+            order = value if value > 0 else str(bond.GetBondType())
+            self._orders[key] = order
+        if isinstance(order, str):
+            raise ValueError(f"bond {i}-{j} has no bond order ({order})")
+        return order
+
+
+_TYPINGS: dict[UffTyping, UffTyping] = {}
+
+Signature = tuple[str, tuple[UffTyping, ...], tuple[Any, ...]]
+"""(kind, the atoms' UFF typings in term order, the facts the kind's rule reads): all an estimate depends on
+but the atom indices."""
+
+
+def estimate_signature(term: Term, types: MoleculeTypes) -> Signature | str:
+    """What the estimate of ``term`` depends on, apart from its atom indices; or why no rule applies.
+
+    The rule of :func:`estimate_from_signature` reads nothing else, so two terms with equal signatures get
+    equal estimates: callers may cache estimates by signature. A reason returned here may name atoms.
+    """
+    kind = term.kind
+    rule = RULE_IDS.get(kind)
+    if rule is None:
+        return f"ffaudit has no published rule to estimate {kind} terms"
+    typings = tuple(types.of(i) for i in term.atoms)
+    for i, t in zip(term.atoms, typings, strict=True):
+        if t.label is None:
+            return f"atom {i}: no UFF type ({t.reason})"
+    try:
+        facts: tuple[Any, ...]
+        if kind == "bond":
+            i, j = term.atoms
+            facts = (types.order(i, j), types.atom(i)[0], types.atom(j)[0])
+        elif kind == "angle":
+            a, b, c = term.atoms
+            facts = (types.order(a, b), types.order(b, c))
+        elif kind == "dihedral":
+            facts_or_reason = _dihedral_facts(term, types)
+            if isinstance(facts_or_reason, str):
+                return facts_or_reason
+            facts = facts_or_reason
+        elif kind == "out_of_plane":
+            facts_or_reason = _inversion_facts(term, types)
+            if isinstance(facts_or_reason, str):
+                return facts_or_reason
+            facts = facts_or_reason
+        else:
+            facts = ()
+    except (KeyError, ValueError) as exc:
+        return f"{rule} does not apply: {exc}"
+    return kind, typings, facts
+
+
+def estimate_from_signature(signature: Signature) -> Estimate | str:
+    """The estimate for ``signature`` (its ``inputs`` without the per-atom ``assumed`` list), or why the
+    rule does not apply. A function of the signature alone; never raises."""
+    kind, typings, facts = signature
+    rule = RULE_IDS[kind]
+    labels = [t.label for t in typings if t.label is not None]
+    inputs: dict[str, Any] = {"uff_types": labels}
+    try:
+        if kind == "bond":
+            return _bond(labels, facts, inputs)
+        if kind == "angle":
+            return _angle(labels, facts, inputs)
+        if kind == "dihedral":
+            return _dihedral(labels, facts, inputs)
+        if kind == "out_of_plane":
+            return _inversion(facts, inputs)
+        x_half, depth = uff.lj_rmin_half_epsilon(labels[0])
+        return Estimate(
+            "lennard_jones", {"rmin_half": x_half, "epsilon": depth}, rule, UFF_CITATION, inputs
+        )
+    except (KeyError, ValueError) as exc:
+        return f"{rule} does not apply: {exc}"
+
+
+def assumed_types(atoms: tuple[int, ...], typings: tuple[UffTyping, ...]) -> list[str]:
+    """The provenance's ``assumed`` list: the UFF type assumed for each atom of the term, and why."""
+    return [f"atom {i}: {t.label} ({t.reason})" for i, t in zip(atoms, typings, strict=True)]
+
+
+def with_assumed(inputs: Mapping[str, Any], assumed: list[str]) -> dict[str, Any]:
+    """``inputs`` with the ``assumed`` list placed after ``uff_types``, as the provenance shows them."""
+    out = {"uff_types": inputs["uff_types"], "assumed": assumed}
+    out.update((k, v) for k, v in inputs.items() if k != "uff_types")
+    return out
 
 
 def estimate_term(term: Term, types: MoleculeTypes) -> tuple[Estimate | None, str | None]:
     """Estimate ``term`` by the rule for its kind; (estimate, None) or (None, reason)."""
-    rule = RULE_IDS.get(term.kind)
-    if rule is None:
-        return None, f"ffaudit has no published rule to estimate {term.kind} terms"
-    typings = [types.of(i) for i in term.atoms]
-    for i, t in zip(term.atoms, typings, strict=True):
-        if t.label is None:
-            return None, f"atom {i}: no UFF type ({t.reason})"
-    labels = [t.label for t in typings if t.label is not None]
-    inputs: dict[str, Any] = {
-        "uff_types": labels,
-        "assumed": [
-            f"atom {i}: {t.label} ({t.reason})" for i, t in zip(term.atoms, typings, strict=True)
-        ],
-    }
-    mol = types.mol
-    try:
-        if term.kind == "bond":
-            return _bond(term, labels, mol, inputs), None
-        if term.kind == "angle":
-            return _angle(term, labels, mol, inputs), None
-        if term.kind == "dihedral":
-            return _dihedral(term, labels, mol, inputs)
-        if term.kind == "out_of_plane":
-            return _inversion(term, mol, inputs)
-        x_half, depth = uff.lj_rmin_half_epsilon(labels[0])
-        return Estimate(
-            "lennard_jones", {"rmin_half": x_half, "epsilon": depth}, rule, UFF_CITATION, inputs
-        ), None
-    except (KeyError, ValueError) as exc:
-        return None, f"{rule} does not apply: {exc}"
+    signature = estimate_signature(term, types)
+    if isinstance(signature, str):
+        return None, signature
+    estimate = estimate_from_signature(signature)
+    if isinstance(estimate, str):
+        return None, estimate
+    inputs = with_assumed(estimate.inputs, assumed_types(term.atoms, signature[1]))
+    return replace(estimate, inputs=inputs), None
 
 
-def _order(mol: Chem.Mol, i: int, j: int) -> float:
-    bond = mol.GetBondBetweenAtoms(i, j)
-    order = bond.GetBondTypeAsDouble()
-    if order <= 0:
-        raise ValueError(f"bond {i}-{j} has no bond order ({bond.GetBondType()!s})")
-    return order
+def _dihedral_facts(term: Term, types: MoleculeTypes) -> tuple[Any, ...] | str:
+    i, j, k, last = term.atoms
+    _, hyb_j, degree_j, around_j = types.atom(j)
+    _, hyb_k, degree_k, around_k = types.atom(k)
+    hj, hk = _HYB.get(hyb_j), _HYB.get(hyb_k)
+    if hj not in ("sp2", "sp3") or hk not in ("sp2", "sp3"):
+        return (
+            f"uff-torsion covers sp2/sp3 central atoms only (got {hj or hyb_j!s}, {hk or hyb_k!s})"
+        )
+    order = types.order(j, k)
+    ends_sp2 = any(types.atom(x)[1] == Chem.HybridizationType.SP2 for x in (i, last))
+    m = (degree_j - 1) * (degree_k - 1) - len(around_j & around_k)
+    return hj, hk, order, ends_sp2, m
 
 
-def _bond(term: Term, labels: list[str], mol: Chem.Mol, inputs: dict[str, Any]) -> Estimate:
-    i, j = term.atoms
-    order = _order(mol, i, j)
+def _inversion_facts(term: Term, types: MoleculeTypes) -> tuple[Any, ...] | str:
+    centre = term.atoms[0]
+    element, _, _, around = types.atom(centre)
+    if element not in ("C", "N", "O"):
+        return f"uff-inversion covers planar C, N, O centres in ffaudit, not {element}"
+    # UFF's K = 50 applies to a carbon bonded to an sp2 oxygen (a carbonyl, but also a conjugated O such as
+    # a phenol's, which RDKit perceives as sp2); judged on RDKit's hybridisation, as RDKit's UFF does [C].
+    carbonyl = element == "C" and any(
+        types.atom(n)[0] == "O" and types.atom(n)[1] == Chem.HybridizationType.SP2
+        for n in sorted(around)
+    )
+    return element, carbonyl
+
+
+def _bond(labels: list[str], facts: tuple[Any, ...], inputs: dict[str, Any]) -> Estimate:
+    order, e1, e2 = facts
     inputs["bond_order"] = order
     r0 = uff.bond_r0(labels[0], labels[1], order)
     k = uff.bond_k(labels[0], labels[1], order)
     checks: dict[str, Any] = {}
-    try:
-        e1, e2 = mol.GetAtomWithIdx(i).GetSymbol(), mol.GetAtomWithIdx(j).GetSymbol()
+    with contextlib.suppress(
+        KeyError, ValueError
+    ):  # no Badger constants for this pair: no cross-check
         checks = {"badger_k": round(badger_k(r0, e1, e2), 3), "badger_citation": BADGER_CITATION}
-    except (KeyError, ValueError):
-        pass
     return Estimate(
         "harmonic", {"k": k, "r0": r0}, "uff-bond", UFF_CITATION, inputs, cross_checks=checks
     )
 
 
-def _angle(term: Term, labels: list[str], mol: Chem.Mol, inputs: dict[str, Any]) -> Estimate:
-    a, b, c = term.atoms
-    o1, o2 = _order(mol, a, b), _order(mol, b, c)
+def _angle(labels: list[str], facts: tuple[Any, ...], inputs: dict[str, Any]) -> Estimate:
+    o1, o2 = facts
     inputs["bond_orders"] = [o1, o2]
     theta0 = uff.angle_theta0(labels[1])
     k = uff.angle_k(labels[0], labels[1], labels[2], o1, o2)
@@ -149,47 +264,20 @@ def _angle(term: Term, labels: list[str], mol: Chem.Mol, inputs: dict[str, Any])
     return Estimate("harmonic", {"k": k, "theta0": theta0}, "uff-angle", UFF_CITATION, inputs)
 
 
-def _dihedral(
-    term: Term, labels: list[str], mol: Chem.Mol, inputs: dict[str, Any]
-) -> tuple[Estimate | None, str | None]:
-    i, j, k, last = term.atoms
-    aj, ak = mol.GetAtomWithIdx(j), mol.GetAtomWithIdx(k)
-    hj, hk = _HYB.get(aj.GetHybridization()), _HYB.get(ak.GetHybridization())
-    if hj not in ("sp2", "sp3") or hk not in ("sp2", "sp3"):
-        return (
-            None,
-            f"uff-torsion covers sp2/sp3 central atoms only (got {hj or aj.GetHybridization()!s}, {hk or ak.GetHybridization()!s})",
-        )
-    order = _order(mol, j, k)
-    ends_sp2 = any(
-        mol.GetAtomWithIdx(x).GetHybridization() == Chem.HybridizationType.SP2 for x in (i, last)
-    )
+def _dihedral(labels: list[str], facts: tuple[Any, ...], inputs: dict[str, Any]) -> Estimate:
+    hj, hk, order, ends_sp2, m = facts
     t = uff.torsion(labels[1], labels[2], hj, hk, order, end_atom_sp2=ends_sp2)
-    common = len({n.GetIdx() for n in aj.GetNeighbors()} & {n.GetIdx() for n in ak.GetNeighbors()})
-    m = (aj.GetDegree() - 1) * (ak.GetDegree() - 1) - common
     inputs.update(
         {"hybridisation": [hj, hk], "bond_order": order, "torsions_about_bond": m, "barrier_V": t.v}
     )
     kk = t.v / (2.0 * max(m, 1))
-    return (
-        Estimate("fourier", {}, "uff-torsion", UFF_CITATION, inputs, fourier=((t.n, t.phase, kk),)),
-        None,
+    return Estimate(
+        "fourier", {}, "uff-torsion", UFF_CITATION, inputs, fourier=((t.n, t.phase, kk),)
     )
 
 
-def _inversion(
-    term: Term, mol: Chem.Mol, inputs: dict[str, Any]
-) -> tuple[Estimate | None, str | None]:
-    centre = mol.GetAtomWithIdx(term.atoms[0])
-    element = centre.GetSymbol()
-    if element not in ("C", "N", "O"):
-        return None, f"uff-inversion covers planar C, N, O centres in ffaudit, not {element}"
-    # UFF's K = 50 applies to a carbon bonded to an sp2 oxygen (a carbonyl, but also a conjugated O such as
-    # a phenol's, which RDKit perceives as sp2); judged on RDKit's hybridisation, as RDKit's UFF does [C].
-    carbonyl = element == "C" and any(
-        n.GetSymbol() == "O" and n.GetHybridization() == Chem.HybridizationType.SP2
-        for n in centre.GetNeighbors()
-    )
+def _inversion(facts: tuple[Any, ...], inputs: dict[str, Any]) -> Estimate:
+    element, carbonyl = facts
     inputs["bound_to_sp2_oxygen"] = carbonyl
     k = uff.inversion_k_centre(element, carbonyl)
-    return Estimate("harmonic", {"k": k, "chi0": 0.0}, "uff-inversion", UFF_CITATION, inputs), None
+    return Estimate("harmonic", {"k": k, "chi0": 0.0}, "uff-inversion", UFF_CITATION, inputs)
