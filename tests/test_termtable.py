@@ -25,7 +25,14 @@ from ffaudit.resolve.driver import Resolution, SharedEstimate
 from ffaudit.score import TIERS
 from ffaudit.termdict import resolution_dict
 from ffaudit.terms import Term
-from ffaudit.termtable import ESTIMATED, OWN, PROBLEM_TIERS, SharedOutcome, TermTable
+from ffaudit.termtable import (
+    ESTIMATED,
+    OWN,
+    PROBLEM_TIERS,
+    SharedOutcome,
+    TermTable,
+    named_classes,
+)
 
 PSET = load_parameter_set()
 SIZES = {"bond": 2, "angle": 3, "dihedral": 4, "out_of_plane": 4, "nonbonded": 1}
@@ -41,7 +48,6 @@ def _outcome(kind: str, tier: str, score: float, pick: int) -> SharedOutcome:
     return SharedOutcome(kind, classes, order, None, tier, entry, score, reason, None, subs)
 
 
-
 def _real_estimates() -> list[SharedEstimate]:
     """Shared rule estimates the resolver made for real molecules with the embedded set: every kind, and
     terms with an unclassified atom (phosphorus, whose reason names the atom)."""
@@ -52,7 +58,9 @@ def _real_estimates() -> list[SharedEstimate]:
 
     context = AuditContext(PSET)
     smiles = ["CP(=O)(O)c1ccccc1N=Nc1ccc(C#N)cc1", "C=CC(=O)Nc1ncccc1S(=O)(=O)N", "CC#CC(=O)OC"]
-    records = [Record(i, "<test>", i + 1, i + 1, s, Chem.MolFromSmiles(s)) for i, s in enumerate(smiles)]
+    records = [
+        Record(i, "<test>", i + 1, i + 1, s, Chem.MolFromSmiles(s)) for i, s in enumerate(smiles)
+    ]
     found: dict[int, SharedEstimate] = {}
     for audit in audit_records(context, records):
         for item, _ in audit.table.listed("all"):
@@ -106,6 +114,18 @@ def tables(draw: st.DrawFn) -> tuple[TermTable, tuple[Resolution, ...]]:
             keys.append(ESTIMATED)
             atoms.append(a)
             expected.append(shared.resolution(a))
+        elif pick == 2 and draw(st.booleans()):  # its own: missing, an atom without a class
+            classes = tuple("?" if draw(st.booleans()) else c for c in ENTRIES[kind][0].classes)
+            r = Resolution(
+                Term(kind, a, classes, outcomes[key].order, None),
+                "missing",
+                reason="atom has no class",
+                cause="no-class",
+            )
+            own[i] = r
+            keys.append(OWN)
+            atoms.append(None)
+            expected.append(r)
         elif pick == 0:  # a term with a resolution of its own
             entry = ENTRIES[kind][0]
             term = Term(kind, a, entry.classes, outcomes[key].order, None)
@@ -140,6 +160,10 @@ def test_table_answers_as_its_resolutions(case: tuple[TermTable, tuple[Resolutio
     for tiers in (("missing",), PROBLEM_TIERS, ("exact",), ()):
         assert table.positions(tiers) == [i for i, r in enumerate(items) if r.tier in tiers]
     plain = TermTable.of(items)
+    elements = [("C", "N", "?")[i % 3] for i in range(41)]
+    assert table.missing_tuples(elements) == Counter(
+        (r.term.kind, named_classes(r.term, elements)) for r in items if r.tier == "missing"
+    )
     assert decide_status(table, []) == decide_status(plain, [])
     assert estimated_entry_finding(table) == estimated_entry_finding(plain)
     for terms, listed in (
@@ -156,7 +180,9 @@ def test_table_answers_as_its_resolutions(case: tuple[TermTable, tuple[Resolutio
 def test_shared_output_is_made_per_parameter_set() -> None:
     """The cached output belongs to one set: a second set gets its own (its name is in the provenance)."""
     entry = ENTRIES["bond"][0]
-    outcome = SharedOutcome("bond", entry.classes, "single", None, "exact", entry, 1.0, None, None, ())
+    outcome = SharedOutcome(
+        "bond", entry.classes, "single", None, "exact", entry, 1.0, None, None, ()
+    )
     table = TermTable([(0, 1), (1, 2)], [7, 7], {7: outcome}, {})
     first = table.terms_json(PSET, "all")
     assert '"set":"generic-organic' in first

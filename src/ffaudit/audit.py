@@ -24,7 +24,6 @@ from typing import Any, cast
 from rdkit import Chem
 
 from ffaudit.findings import Finding, Severity
-from ffaudit.paramset.canonical import UNASSIGNED
 from ffaudit.paramset.model import KINDS, ParameterSet
 from ffaudit.perceive.classes import Assignment, ClassRules
 from ffaudit.perceive.propose import ProposedClass, propose_class
@@ -33,7 +32,7 @@ from ffaudit.resolve.driver import Resolution, Resolver
 from ffaudit.resolve.estimate import MoleculeTypes
 from ffaudit.score import RESOLVED_FROM_SET, TIERS
 from ffaudit.termdict import rounded, term_ref
-from ffaudit.terms import Term, enumerate_terms
+from ffaudit.terms import enumerate_terms
 from ffaudit.termtable import TermTable
 
 STATUSES: tuple[str, ...] = ("covered", "estimated", "incomplete", "unreadable")
@@ -346,13 +345,9 @@ class Summary:
             self.counts.add(kind, tier, n)
         if audit.score is not None:
             self.scores.append(audit.score)
-        seen: set[tuple[str, tuple[str, ...]]] = set()
-        for r in table.picked(table.positions(("missing",))):
-            key = (r.term.kind, _named_classes(r.term, audit.elements))
-            self.missing_terms[key] += 1
-            seen.add(key)
-        for key in seen:
-            self.missing_molecules[key] += 1
+        missing = table.missing_tuples(audit.elements)
+        self.missing_terms.update(missing)
+        self.missing_molecules.update(missing.keys())
         self.assigned.update(a.class_id for a in audit.assignments if a.class_id is not None)
         lacking = {
             audit.elements[a.atom]
@@ -415,14 +410,6 @@ class Summary:
 
 def _table(resolutions: Sequence[Resolution]) -> TermTable:
     return resolutions if isinstance(resolutions, TermTable) else TermTable.of(resolutions)
-
-
-def _named_classes(term: Term, elements: Sequence[str]) -> tuple[str, ...]:
-    """The term's classes with each unassigned ``?`` followed by the atom's element (``?P``)."""
-    return tuple(
-        f"{UNASSIGNED}{elements[atom]}" if c == UNASSIGNED else c
-        for c, atom in zip(term.classes, term.atoms, strict=True)
-    )
 
 
 def parameter_set_info(pset: ParameterSet) -> dict[str, Any]:

@@ -17,11 +17,13 @@ two tables are equal when their resolutions are, whatever their storage.
 
 from __future__ import annotations
 
+import bisect
 import re
 from collections import Counter
 from collections.abc import Iterable, Iterator, Mapping, Sequence
 from typing import Any, overload
 
+from ffaudit.paramset.canonical import UNASSIGNED
 from ffaudit.paramset.model import Entry, ParameterSet
 from ffaudit.resolve.driver import Resolution, SharedEstimate
 from ffaudit.score import TIERS
@@ -62,6 +64,7 @@ class SharedOutcome:
         "reason",
         "cause",
         "substitutions",
+        "group",
         "_output",
     )
 
@@ -88,6 +91,7 @@ class SharedOutcome:
         self.reason = reason
         self.cause = cause
         self.substitutions = substitutions
+        self.group = (kind, tier, entry, score)  # the start of its rows in TermTable.groups
         self._output: tuple[ParameterSet, dict[str, Any], str, str] | None = None
 
     @classmethod
@@ -166,6 +170,66 @@ def estimate_json(shared: SharedEstimate, pset: ParameterSet, atoms: tuple[int, 
     return "".join(parts)
 
 
+def named_classes(term: Term, elements: Sequence[str]) -> tuple[str, ...]:
+    """The term's classes with each unassigned ``?`` followed by the atom's element (``?P``)."""
+    return tuple(
+        f"{UNASSIGNED}{elements[atom]}" if c == UNASSIGNED else c
+        for c, atom in zip(term.classes, term.atoms, strict=True)
+    )
+
+
+class AtomRows(Sequence[tuple[int, ...]]):
+    """The atom tuples of a molecule's terms, kept as the rows of integer arrays (one array per term kind,
+    in term order) and turned into tuples only when asked: a run that lists no terms never makes them.
+    One row is converted on its own; :meth:`materialise` converts all at once (and keeps the list)."""
+
+    __slots__ = ("_parts", "_ends", "_list")
+
+    def __init__(self, parts: Sequence[Any]) -> None:
+        self._parts = [p for p in parts if len(p)]
+        ends: list[int] = []
+        total = 0
+        for p in self._parts:
+            total += len(p)
+            ends.append(total)
+        self._ends = ends
+        self._list: list[tuple[int, ...]] | None = None
+
+    def materialise(self) -> list[tuple[int, ...]]:
+        """Every row as a tuple of ints, in order (made on first call, then kept)."""
+        if self._list is None:
+            out: list[tuple[int, ...]] = []
+            for p in self._parts:
+                out += map(tuple, p.tolist())
+            self._list = out
+        return self._list
+
+    def __len__(self) -> int:
+        return self._ends[-1] if self._ends else 0
+
+    @overload
+    def __getitem__(self, index: int) -> tuple[int, ...]: ...
+
+    @overload
+    def __getitem__(self, index: slice) -> list[tuple[int, ...]]: ...
+
+    def __getitem__(self, index: int | slice) -> tuple[int, ...] | list[tuple[int, ...]]:
+        if self._list is not None or isinstance(index, slice):
+            return self.materialise()[index]
+        if index < 0:
+            index += len(self)
+        if not 0 <= index < len(self):
+            raise IndexError("term index out of range")
+        part = bisect.bisect_right(self._ends, index)
+        start = self._ends[part - 1] if part else 0
+        return tuple(self._parts[part][index - start].tolist())
+
+
+def _atom_list(atoms: Sequence[tuple[int, ...] | None]) -> Sequence[tuple[int, ...] | None]:
+    """``atoms`` as a plain sequence for loops over many terms."""
+    return atoms.materialise() if isinstance(atoms, AtomRows) else atoms
+
+
 class TermTable(Sequence[Resolution]):
     """The resolutions of one molecule's terms, in term order (see the module docstring).
 
@@ -178,6 +242,7 @@ class TermTable(Sequence[Resolution]):
 
     __slots__ = (
         "_atoms", "_keys", "_shared", "_own", "_estimated", "_items", "_groups", "_counts",
+        "_key_counts",
     )  # fmt: skip
 
     def __init__(
@@ -198,6 +263,7 @@ class TermTable(Sequence[Resolution]):
         self._items: tuple[Resolution, ...] | None = None
         self._groups: list[tuple[str, str, Entry | None, float, int]] | None = None
         self._counts: Counter[tuple[str, str]] | None = None
+        self._key_counts: Counter[int] | None = None
 
     @classmethod
     def of(cls, resolutions: Iterable[Resolution]) -> TermTable:
@@ -222,6 +288,7 @@ class TermTable(Sequence[Resolution]):
     def resolutions(self) -> tuple[Resolution, ...]:
         """Every resolution, in term order (built on first call, then kept)."""
         if self._items is None:
+            _atom_list(self._atoms)  # one conversion instead of one per term
             self._items = tuple(self._item(i) for i in range(len(self._keys)))
         return self._items
 
@@ -257,17 +324,19 @@ class TermTable(Sequence[Resolution]):
 
     # --- totals without objects -------------------------------------------------------------------
 
+    def _keys_used(self) -> Counter[int]:
+        """Terms per key, in the order of each key's first term (made on first call, then kept)."""
+        if self._key_counts is None:
+            self._key_counts = Counter(self._keys)
+        return self._key_counts
+
     def groups(self) -> list[tuple[str, str, Entry | None, float, int]]:
         """(kind, tier, entry, score, number of terms) per shared outcome used and per own resolution
         (made on first call, then kept; do not change the list)."""
         if self._groups is not None:
             return self._groups
-        out: list[tuple[str, str, Entry | None, float, int]] = []
         shared = self._shared
-        for key, n in Counter(self._keys).items():
-            if key >= 0:
-                o = shared[key]
-                out.append((o.kind, o.tier, o.entry, o.score, n))
+        out = [shared[key].group + (n,) for key, n in self._keys_used().items() if key >= 0]
         for e, n in Counter(self._estimated.values()).items():
             out.append((e.kind, e.tier, e.entry, e.score, n))
         for r in self._own.values():
@@ -289,15 +358,15 @@ class TermTable(Sequence[Resolution]):
         if not self._keys:
             return None
         shared = self._shared
-        distinct = [k for k in dict.fromkeys(self._keys) if k >= 0]
+        distinct = [k for k in self._keys_used() if k >= 0]  # in the order of their first terms
         others = list(self._own.items()) + list(self._estimated.items())
         low = min([shared[k].score for k in distinct] + [r.score for _, r in others])
-        keys = self._keys
-        first = min(
-            [keys.index(k) for k in distinct if shared[k].score == low]
-            + [i for i, r in others if r.score == low]
-        )
-        return self._item(first)
+        # the first key reaching the lowest score has the earliest term among the shared keys
+        first_shared = next((k for k in distinct if shared[k].score == low), None)
+        candidates = [i for i, r in others if r.score == low]
+        if first_shared is not None:
+            candidates.append(self._keys.index(first_shared))
+        return self._item(min(candidates))
 
     def positions(self, tiers: Iterable[str] | None = None) -> list[int]:
         """Term positions, in order, of the terms whose tier is in ``tiers`` (all when None)."""
@@ -312,7 +381,7 @@ class TermTable(Sequence[Resolution]):
         if hits == len(groups):
             return list(range(n))
         shared = self._shared
-        keep = {k for k in set(self._keys) if k >= 0 and shared[k].tier in wanted}
+        keep = {k for k in self._keys_used() if k >= 0 and shared[k].tier in wanted}
         if "estimate" in wanted:
             keep.add(ESTIMATED)
         if not self._own:
@@ -323,6 +392,21 @@ class TermTable(Sequence[Resolution]):
     def picked(self, positions: Iterable[int]) -> list[Resolution]:
         """The resolutions at ``positions`` (built for these terms only)."""
         return [self._item(i) for i in positions]
+
+    def missing_tuples(self, elements: Sequence[str]) -> Counter[tuple[str, tuple[str, ...]]]:
+        """Missing terms per (kind, classes), each unassigned ``?`` followed by its atom's element
+        (``?P``); ``elements`` are the molecule's, by atom index. Shared outcomes never have a ``?`` (a term
+        with an unclassified atom is its own), so they are counted without looking at their terms."""
+        out: Counter[tuple[str, tuple[str, ...]]] = Counter()
+        shared = self._shared
+        for key, n in self._keys_used().items():
+            if key >= 0 and shared[key].tier == "missing":
+                o = shared[key]
+                out[o.kind, o.classes] += n
+        for r in self._own.values():
+            if r.tier == "missing":
+                out[r.term.kind, named_classes(r.term, elements)] += 1
+        return out
 
     # --- output -----------------------------------------------------------------------------------
 
@@ -337,7 +421,9 @@ class TermTable(Sequence[Resolution]):
         self, pset: ParameterSet, positions: Sequence[int]
     ) -> dict[int, tuple[dict[str, Any], str, str]]:
         """The shared output of every key used at ``positions`` (made once per key and set)."""
-        atoms, keys, shared = self._atoms, self._keys, self._shared
+        if not positions:
+            return {}
+        atoms, keys, shared = _atom_list(self._atoms), self._keys, self._shared
         out: dict[int, tuple[dict[str, Any], str, str]] = {}
         for i in positions:
             key = keys[i]
@@ -352,7 +438,7 @@ class TermTable(Sequence[Resolution]):
     ) -> list[tuple[SharedOutcome | SharedEstimate | Resolution, tuple[int, ...]]]:
         """The listed terms (``terms``: all, problems, none), in order, as (their shared outcome, shared
         estimate or own resolution, atoms): what an output builds on without a dict per term."""
-        atoms, keys, shared, own = self._atoms, self._keys, self._shared, self._own
+        atoms, keys, shared, own = _atom_list(self._atoms), self._keys, self._shared, self._own
         out: list[tuple[SharedOutcome | SharedEstimate | Resolution, tuple[int, ...]]] = []
         for i in self._listed(terms):
             key = keys[i]
@@ -368,7 +454,7 @@ class TermTable(Sequence[Resolution]):
         """The listed term dicts (``terms``: all, problems or none), as :func:`resolution_dict` makes them."""
         positions = self._listed(terms)
         outputs = self._outputs(pset, positions)
-        atoms, keys, shared, own = self._atoms, self._keys, self._shared, self._own
+        atoms, keys, shared, own = _atom_list(self._atoms), self._keys, self._shared, self._own
         out: list[dict[str, Any]] = []
         append = out.append
         for i in positions:
@@ -394,7 +480,14 @@ class TermTable(Sequence[Resolution]):
         outputs = self._outputs(pset, positions)
         before = {k: v[1] for k, v in outputs.items()}
         after = {k: v[2] for k, v in outputs.items()}
-        atoms, keys, own, estimated = self._atoms, self._keys, self._own, self._estimated
+        if not positions:
+            return "[]"
+        atoms, keys, own, estimated = (
+            _atom_list(self._atoms),
+            self._keys,
+            self._own,
+            self._estimated,
+        )
         texts = _ATOM_TEXT
         parts = [
             before[keys[i]] + (texts.get(atoms[i]) or _atom_text(atoms[i])) + after[keys[i]]  # type: ignore[arg-type]

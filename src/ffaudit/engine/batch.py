@@ -55,7 +55,7 @@ from ffaudit.resolve.driver import Resolution, SharedEstimate
 from ffaudit.resolve.estimate import MoleculeTypes
 from ffaudit.terms import Term
 from ffaudit.terms_batch import NO_QUALIFIER, KindTerms, enumerate_batch
-from ffaudit.termtable import ESTIMATED, OWN, SharedOutcome, TermTable
+from ffaudit.termtable import ESTIMATED, OWN, AtomRows, SharedOutcome, TermTable
 
 IntArray = NDArray[np.int64]
 
@@ -89,7 +89,7 @@ class _KeyInfo:
 class _KindRows:
     kind: str
     bounds: IntArray
-    atoms: list[tuple[int, ...]]
+    atoms: IntArray  # (n_terms, atoms per term): each molecule's own atom indices
     keys: list[int]
 
 
@@ -304,9 +304,8 @@ class FastAuditor:
         kind_index = KINDS.index(kt.kind)
         n = len(kt)
         if n == 0:
-            return _KindRows(kt.kind, kt.bounds(n_mols), [], [])
+            return _KindRows(kt.kind, kt.bounds(n_mols), np.zeros((0, 1), np.int64), [])
         local = kt.atoms - graph.starts[kt.molecule][:, None]
-        atoms = list(map(tuple, local.tolist()))
         bits = self._rank_bits
         key = np.full(n, kind_index, dtype=np.int64)
         for c in range(4):
@@ -319,7 +318,7 @@ class FastAuditor:
             if k not in self._key_info:
                 self._key_info[k] = self._describe(kt, row)
         keys = key.tolist()
-        return _KindRows(kt.kind, kt.bounds(n_mols), atoms, keys)
+        return _KindRows(kt.kind, kt.bounds(n_mols), local, keys)
 
     def _describe(self, kt: KindTerms, row: int) -> _KeyInfo:
         ranks = kt.ranks[row].tolist()
@@ -383,7 +382,7 @@ class FastAuditor:
         # estimates and terms with an unclassified atom resolved per term
         outcomes = self._outcomes
         infos = self._key_info
-        atoms_all: list[tuple[int, ...] | None] = []
+        atom_parts: list[IntArray] = []
         keys_all: list[int] = []
         own: dict[int, Resolution] = {}
         estimated: dict[int, SharedEstimate] = {}
@@ -392,9 +391,9 @@ class FastAuditor:
             if start == end:
                 continue
             offset = len(keys_all)
-            atoms = rows.atoms[start:end]
+            part = rows.atoms[start:end]
             keys = rows.keys[start:end]
-            atoms_all += atoms
+            atom_parts.append(part)
             keys_all += keys
             single: set[int] = set()
             for key in dict.fromkeys(keys):
@@ -408,7 +407,8 @@ class FastAuditor:
                 if info.unassigned:  # the reference never shares those: the reason names the atoms
                     single.add(key)
                     continue
-                term = Term(rows.kind, atoms[keys.index(key)], info.classes, info.order, info.ring)
+                first_atoms = tuple(part[keys.index(key)].tolist())
+                term = Term(rows.kind, first_atoms, info.classes, info.order, info.ring)
                 first = resolver.resolve(term, None)
                 if first.tier == "missing" and self._estimate:
                     outcomes[key] = None
@@ -416,10 +416,11 @@ class FastAuditor:
                 else:
                     outcomes[key] = SharedOutcome.of(first)
             if single:
+                atoms = part.tolist()
                 for i, key in enumerate(keys):
                     if key in single:
                         info = infos[key]
-                        term = Term(rows.kind, atoms[i], info.classes, info.order, info.ring)
+                        term = Term(rows.kind, tuple(atoms[i]), info.classes, info.order, info.ring)
                         found = (
                             resolver.estimate(term, cast("MoleculeTypes", types()))
                             if self._estimate
@@ -433,7 +434,11 @@ class FastAuditor:
                             keys_all[offset + i] = OWN
         # every key left in keys_all has a shared outcome (the others were replaced by OWN or ESTIMATED)
         resolved = TermTable(
-            atoms_all, keys_all, cast("dict[int, SharedOutcome]", outcomes), own, estimated
+            AtomRows(atom_parts),
+            keys_all,
+            cast("dict[int, SharedOutcome]", outcomes),
+            own,
+            estimated,
         )
         proposed: tuple[ProposedClass, ...] = ()
         if findings:  # only unclassified-atom findings here
