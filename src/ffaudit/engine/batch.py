@@ -3,10 +3,11 @@
 :class:`FastAuditor` takes records in groups (default 50), joins their molecules into one RDKit molecule
 (:mod:`ffaudit.molbatch`), matches each class rule once per group (:mod:`ffaudit.perceive.batch`), enumerates the
 terms of the whole group with numpy (:mod:`ffaudit.terms_batch`) and resolves each distinct (kind, classes,
-qualifiers) tuple once. It then builds, record by record in input order, the same :class:`MoleculeAudit` the
-reference (``AuditContext.audit_record``) builds: same classes, terms, resolutions, findings, status; the same
-``to_dict`` output. It shares the context's :class:`~ffaudit.resolve.driver.Resolver`, and asks it about terms
-in the reference's order, so even order-dependent details come out the same.
+qualifiers) tuple once per batch (what the set tiers give depends on the tuple alone). It then builds, record
+by record in input order, the same :class:`MoleculeAudit` the reference (``AuditContext.audit_record``)
+builds: same classes, terms, resolutions, findings, status; the same ``to_dict`` output. It shares the
+context's :class:`~ffaudit.resolve.driver.Resolver`; rule estimates are asked for term by term, in the
+reference's order.
 
 Where the reference would do something the batch cannot reproduce, the record goes the reference's way
 (``context.audit_record``): a record without a molecule, a molecule whose valences were never computed or that
@@ -58,6 +59,7 @@ from ffaudit.terms_batch import NO_QUALIFIER, KindTerms, enumerate_batch
 from ffaudit.termtable import ESTIMATED, OWN, AtomRows, SharedOutcome, TermTable
 
 IntArray = NDArray[np.int64]
+BoolArray = NDArray[np.bool_]
 
 DEFAULT_BATCH_SIZE = 50
 """Molecules joined into one RDKit molecule (about 50 measured best; see benchmarks/bench_fast_path.py)."""
@@ -69,7 +71,6 @@ LAYOUTS = ("auto", "explicit")
 """``auto``: the heavy layout where the set's rules allow it; ``explicit``: always add hydrogens first."""
 
 _SYMBOLS = tuple(Chem.GetPeriodicTable().GetElementSymbol(z) for z in range(119))
-_UNSEEN: Any = object()
 
 
 class _UseReference(Exception):
@@ -91,6 +92,7 @@ class _KindRows:
     bounds: IntArray
     atoms: IntArray  # (n_terms, atoms per term): each molecule's own atom indices
     keys: list[int]
+    single: BoolArray | None  # terms resolved one by one (estimates, unclassified atoms), or None
 
 
 @dataclass
@@ -304,7 +306,7 @@ class FastAuditor:
         kind_index = KINDS.index(kt.kind)
         n = len(kt)
         if n == 0:
-            return _KindRows(kt.kind, kt.bounds(n_mols), np.zeros((0, 1), np.int64), [])
+            return _KindRows(kt.kind, kt.bounds(n_mols), np.zeros((0, 1), np.int64), [], None)
         local = kt.atoms - graph.starts[kt.molecule][:, None]
         bits = self._rank_bits
         key = np.full(n, kind_index, dtype=np.int64)
@@ -314,11 +316,29 @@ class FastAuditor:
         key = (key << 8) | (kt.code + 1)
         key = (key << 2) | (kt.ring + 1)
         distinct, first = np.unique(key, return_index=True)
+        # each new tuple is resolved once, for the whole batch (outcomes depend on the tuple alone); None
+        # marks the tuples whose terms are resolved one by one
+        outcomes = self._outcomes
+        resolver = self.context.resolver
+        per_term: list[bool] = []
         for k, row in zip(distinct.tolist(), first.tolist(), strict=True):
-            if k not in self._key_info:
-                self._key_info[k] = self._describe(kt, row)
-        keys = key.tolist()
-        return _KindRows(kt.kind, kt.bounds(n_mols), local, keys)
+            info = self._key_info.get(k)
+            if info is None:
+                info = self._key_info[k] = self._describe(kt, row)
+            if k not in outcomes:
+                if info.unassigned:  # the reference never shares those: the reason names the atoms
+                    outcomes[k] = None
+                else:
+                    atoms = tuple(local[row].tolist())
+                    term = Term(kt.kind, atoms, info.classes, info.order, info.ring)
+                    found = resolver.resolve(term, None)
+                    missing = found.tier == "missing" and self._estimate
+                    outcomes[k] = None if missing else SharedOutcome.of(found)
+            per_term.append(outcomes[k] is None)
+        single = None
+        if any(per_term):
+            single = np.array(per_term, dtype=bool)[np.searchsorted(distinct, key)]
+        return _KindRows(kt.kind, kt.bounds(n_mols), local, key.tolist(), single)
 
     def _describe(self, kt: KindTerms, row: int) -> _KeyInfo:
         ranks = kt.ranks[row].tolist()
@@ -378,8 +398,8 @@ class FastAuditor:
                 types_cache.append(MoleculeTypes(molh()) if self._estimate else None)
             return types_cache[0]
 
-        # terms: each new tuple resolved once (its first term), in the reference's order of first use;
-        # estimates and terms with an unclassified atom resolved per term
+        # terms: the tuples were resolved per batch (_rows); estimates and terms with an unclassified atom
+        # are resolved here, term by term
         outcomes = self._outcomes
         infos = self._key_info
         atom_parts: list[IntArray] = []
@@ -395,43 +415,25 @@ class FastAuditor:
             keys = rows.keys[start:end]
             atom_parts.append(part)
             keys_all += keys
-            single: set[int] = set()
-            for key in dict.fromkeys(keys):
-                outcome = outcomes.get(key, _UNSEEN)
-                if outcome is None:
-                    single.add(key)
-                    continue
-                if outcome is not _UNSEEN:
-                    continue
-                info = infos[key]
-                if info.unassigned:  # the reference never shares those: the reason names the atoms
-                    single.add(key)
-                    continue
-                first_atoms = tuple(part[keys.index(key)].tolist())
-                term = Term(rows.kind, first_atoms, info.classes, info.order, info.ring)
-                first = resolver.resolve(term, None)
-                if first.tier == "missing" and self._estimate:
-                    outcomes[key] = None
-                    single.add(key)
+            if rows.single is None:
+                continue
+            singles = np.flatnonzero(rows.single[start:end])
+            if not len(singles):
+                continue
+            for i, atoms in zip(singles.tolist(), part[singles].tolist(), strict=True):
+                info = infos[keys[i]]
+                term = Term(rows.kind, tuple(atoms), info.classes, info.order, info.ring)
+                found = (
+                    resolver.estimate(term, cast("MoleculeTypes", types()))
+                    if self._estimate
+                    else resolver.resolve(term, None)
+                )
+                if isinstance(found, SharedEstimate):
+                    estimated[offset + i] = found
+                    keys_all[offset + i] = ESTIMATED
                 else:
-                    outcomes[key] = SharedOutcome.of(first)
-            if single:
-                atoms = part.tolist()
-                for i, key in enumerate(keys):
-                    if key in single:
-                        info = infos[key]
-                        term = Term(rows.kind, tuple(atoms[i]), info.classes, info.order, info.ring)
-                        found = (
-                            resolver.estimate(term, cast("MoleculeTypes", types()))
-                            if self._estimate
-                            else resolver.resolve(term, None)
-                        )
-                        if isinstance(found, SharedEstimate):
-                            estimated[offset + i] = found
-                            keys_all[offset + i] = ESTIMATED
-                        else:
-                            own[offset + i] = found
-                            keys_all[offset + i] = OWN
+                    own[offset + i] = found
+                    keys_all[offset + i] = OWN
         # every key left in keys_all has a shared outcome (the others were replaced by OWN or ESTIMATED)
         resolved = TermTable(
             AtomRows(atom_parts),
