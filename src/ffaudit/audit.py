@@ -128,8 +128,8 @@ class MoleculeAudit:
         worst = self.score_resolution
         return None if worst is None else worst.score
 
-    def _head(self) -> dict[str, Any]:
-        """The molecule dict without its ``terms`` (which come last)."""
+    def head(self) -> dict[str, Any]:
+        """The molecule dict without its ``terms`` (which come last); a new dict at each call."""
         rec = self.record
         worst = self.score_resolution
         out: dict[str, Any] = {
@@ -155,17 +155,20 @@ class MoleculeAudit:
 
     def to_dict(self, pset: ParameterSet, terms: str = "all") -> dict[str, Any]:
         """The molecule object of the output contract; ``terms`` (all, problems, none) picks the listed terms."""
-        out = self._head()
+        out = self.head()
         out["terms"] = self.table.term_dicts(pset, terms)
         return out
 
-    def to_json(self, pset: ParameterSet, terms: str = "all") -> str:
+    def to_json(
+        self, pset: ParameterSet, terms: str = "all", head: Mapping[str, Any] | None = None
+    ) -> str:
         """One-line JSON text of :meth:`to_dict`, byte for byte as the JSONL encoder writes it, made without
-        building the term dicts. Raises ``ValueError`` for a NaN or infinite value."""
+        building the term dicts; ``head``, when given, is this audit's :meth:`head` (made already for
+        another output). Raises ``ValueError`` for a NaN or infinite value."""
         from ffaudit.report.jsonl import dump_compact
 
-        head = dump_compact(self._head())
-        return head[:-1] + ',"terms":' + self.table.terms_json(pset, terms) + "}"
+        text = dump_compact(self.head() if head is None else head)
+        return text[:-1] + ',"terms":' + self.table.terms_json(pset, terms) + "}"
 
 
 def estimated_entry_finding(resolutions: Sequence[Resolution]) -> Finding | None:

@@ -438,9 +438,12 @@ class TermTable(Sequence[Resolution]):
     ) -> list[tuple[SharedOutcome | SharedEstimate | Resolution, tuple[int, ...]]]:
         """The listed terms (``terms``: all, problems, none), in order, as (their shared outcome, shared
         estimate or own resolution, atoms): what an output builds on without a dict per term."""
-        atoms, keys, shared, own = _atom_list(self._atoms), self._keys, self._shared, self._own
+        positions = self._listed(terms)
         out: list[tuple[SharedOutcome | SharedEstimate | Resolution, tuple[int, ...]]] = []
-        for i in self._listed(terms):
+        if not positions:
+            return out
+        atoms, keys, shared, own = _atom_list(self._atoms), self._keys, self._shared, self._own
+        for i in positions:
             key = keys[i]
             if key == OWN:
                 out.append((own[i], own[i].term.atoms))
@@ -453,6 +456,8 @@ class TermTable(Sequence[Resolution]):
     def term_dicts(self, pset: ParameterSet, terms: str = "all") -> list[dict[str, Any]]:
         """The listed term dicts (``terms``: all, problems or none), as :func:`resolution_dict` makes them."""
         positions = self._listed(terms)
+        if not positions:
+            return []
         outputs = self._outputs(pset, positions)
         atoms, keys, shared, own = _atom_list(self._atoms), self._keys, self._shared, self._own
         out: list[dict[str, Any]] = []

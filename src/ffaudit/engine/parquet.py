@@ -205,13 +205,21 @@ def _terms_column_of_audits(
     return _terms_array(rows, picks, atoms, offsets)
 
 
-def audits_to_table(audits: Sequence[MoleculeAudit], pset: ParameterSet, terms: str) -> pa.Table:
+def audits_to_table(
+    audits: Sequence[MoleculeAudit],
+    pset: ParameterSet,
+    terms: str,
+    heads: Sequence[Mapping[str, Any]] | None = None,
+) -> pa.Table:
     """The table :func:`molecules_to_table` makes of ``[a.to_dict(pset, terms) for a in audits]``, made
-    without the term dicts. Raises ``ImportError`` without pyarrow."""
+    without the term dicts; ``heads``, when given, are the audits' :meth:`~MoleculeAudit.head` dicts (made
+    already for the JSON lines). Raises ``ImportError`` without pyarrow."""
     memo: dict[int, str | None] = {}
     full = schema()
     others = pa.schema([f for f in full if f.name != "terms"])
-    rows = [_row(a.to_dict(pset, "none"), memo) for a in audits]
+    if heads is None:
+        heads = [a.head() for a in audits]
+    rows = [_row(head, memo) for head in heads]
     table = pa.Table.from_pylist(rows, schema=others)
     column = _terms_column_of_audits(audits, pset, terms, memo)
     return pa.Table.from_arrays(
@@ -219,11 +227,16 @@ def audits_to_table(audits: Sequence[MoleculeAudit], pset: ParameterSet, terms: 
     )
 
 
-def audits_to_parquet(audits: Sequence[MoleculeAudit], pset: ParameterSet, terms: str) -> bytes:
-    """The bytes :func:`molecules_to_parquet` gives for the audits' dicts. Raises ``ImportError`` without
-    pyarrow."""
+def audits_to_parquet(
+    audits: Sequence[MoleculeAudit],
+    pset: ParameterSet,
+    terms: str,
+    heads: Sequence[Mapping[str, Any]] | None = None,
+) -> bytes:
+    """The bytes :func:`molecules_to_parquet` gives for the audits' dicts (``heads`` as for
+    :func:`audits_to_table`). Raises ``ImportError`` without pyarrow."""
     sink = io.BytesIO()
-    pq.write_table(audits_to_table(audits, pset, terms), sink, compression="zstd")
+    pq.write_table(audits_to_table(audits, pset, terms, heads), sink, compression="zstd")
     return sink.getvalue()
 
 

@@ -104,13 +104,17 @@ def _run_chunk(context: AuditContext, job: ChunkJob, options: ChunkOptions) -> C
         return ChunkResult(
             job.number, job.first, job.count, summary, molecules=molecules, worker=worker
         )
-    # the JSON text straight from the audits (byte-identical to encoding to_dict, much cheaper)
-    text = "".join([a.to_json(pset, terms) + "\n" for a in audits]).encode("utf-8")
+    # the JSON text straight from the audits (byte-identical to encoding to_dict, much cheaper); the
+    # molecule heads are made once for both outputs
+    heads = [a.head() for a in audits]
+    text = "".join(
+        [a.to_json(pset, terms, head) + "\n" for a, head in zip(audits, heads, strict=True)]
+    ).encode("utf-8")
     parquet = None
     if options.parquet:
         from ffaudit.engine.parquet import audits_to_parquet
 
-        parquet = audits_to_parquet(audits, pset, terms)
+        parquet = audits_to_parquet(audits, pset, terms, heads)
     if options.directory is not None:
         from ffaudit.engine.outdir import write_chunk_files
 
