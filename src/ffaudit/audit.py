@@ -64,7 +64,9 @@ class TierCounts:
     counts: dict[str, dict[str, int]] = field(default_factory=dict)
 
     def add(self, kind: str, tier: str, n: int = 1) -> None:
-        per_kind = self.counts.setdefault(kind, dict.fromkeys(TIERS, 0))
+        per_kind = self.counts.get(kind)
+        if per_kind is None:
+            per_kind = self.counts[kind] = dict.fromkeys(TIERS, 0)
         per_kind[tier] += n
 
     def __add__(self, other: TierCounts) -> TierCounts:

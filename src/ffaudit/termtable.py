@@ -65,6 +65,7 @@ class SharedOutcome:
         "cause",
         "substitutions",
         "group",
+        "kind_tier",
         "_output",
     )
 
@@ -92,6 +93,7 @@ class SharedOutcome:
         self.cause = cause
         self.substitutions = substitutions
         self.group = (kind, tier, entry, score)  # the start of its rows in TermTable.groups
+        self.kind_tier = (kind, tier)
         self._output: tuple[ParameterSet, dict[str, Any], str, str] | None = None
 
     @classmethod
@@ -242,7 +244,7 @@ class TermTable(Sequence[Resolution]):
 
     __slots__ = (
         "_atoms", "_keys", "_shared", "_own", "_estimated", "_items", "_groups", "_counts",
-        "_key_counts",
+        "_key_counts", "_missing", "_low",
     )  # fmt: skip
 
     def __init__(
@@ -264,6 +266,8 @@ class TermTable(Sequence[Resolution]):
         self._groups: list[tuple[str, str, Entry | None, float, int]] | None = None
         self._counts: Counter[tuple[str, str]] | None = None
         self._key_counts: Counter[int] | None = None
+        self._missing: list[tuple[str, tuple[str, ...], int]] | None = None
+        self._low: tuple[float, int | None] | None = None
 
     @classmethod
     def of(cls, resolutions: Iterable[Resolution]) -> TermTable:
@@ -330,42 +334,67 @@ class TermTable(Sequence[Resolution]):
             self._key_counts = Counter(self._keys)
         return self._key_counts
 
+    def _scan(self) -> None:
+        """One pass over the keys used, in the order of their first terms, for :meth:`groups`,
+        :meth:`tier_counts`, :meth:`missing_tuples` and :meth:`lowest`."""
+        shared = self._shared
+        groups: list[tuple[str, str, Entry | None, float, int]] = []
+        counts: dict[tuple[str, str], int] = {}
+        missing: list[tuple[str, tuple[str, ...], int]] = []
+        low = float("inf")
+        low_key: int | None = None
+        for key, n in self._keys_used().items():
+            if key < 0:
+                continue
+            o = shared[key]
+            groups.append(o.group + (n,))
+            kind_tier = o.kind_tier
+            counts[kind_tier] = counts.get(kind_tier, 0) + n
+            if o.score < low:  # the first key to reach the lowest score has the earliest term
+                low, low_key = o.score, key
+            if o.tier == "missing":
+                missing.append((o.kind, o.classes, n))
+        for e, n in Counter(self._estimated.values()).items():
+            groups.append((e.kind, e.tier, e.entry, e.score, n))
+            counts[e.kind, e.tier] = counts.get((e.kind, e.tier), 0) + n
+        for r in self._own.values():
+            groups.append((r.term.kind, r.tier, r.entry, r.score, 1))
+            kind_tier = (r.term.kind, r.tier)
+            counts[kind_tier] = counts.get(kind_tier, 0) + 1
+        self._groups = groups
+        self._counts = Counter(counts)
+        self._missing = missing
+        self._low = (low, low_key)
+
     def groups(self) -> list[tuple[str, str, Entry | None, float, int]]:
         """(kind, tier, entry, score, number of terms) per shared outcome used and per own resolution
         (made on first call, then kept; do not change the list)."""
-        if self._groups is not None:
-            return self._groups
-        shared = self._shared
-        out = [shared[key].group + (n,) for key, n in self._keys_used().items() if key >= 0]
-        for e, n in Counter(self._estimated.values()).items():
-            out.append((e.kind, e.tier, e.entry, e.score, n))
-        for r in self._own.values():
-            out.append((r.term.kind, r.tier, r.entry, r.score, 1))
-        self._groups = out
-        return out
+        if self._groups is None:
+            self._scan()
+        assert self._groups is not None
+        return self._groups
 
     def tier_counts(self) -> Counter[tuple[str, str]]:
         """Number of terms per (kind, tier) (made on first call, then kept; do not change it)."""
         if self._counts is None:
-            counts: Counter[tuple[str, str]] = Counter()
-            for kind, tier, _, _, n in self.groups():
-                counts[kind, tier] += n
-            self._counts = counts
+            self._scan()
+        assert self._counts is not None
         return self._counts
 
     def lowest(self) -> Resolution | None:
         """The resolution with the lowest score, the first in term order on ties; None without terms."""
         if not self._keys:
             return None
-        shared = self._shared
-        distinct = [k for k in self._keys_used() if k >= 0]  # in the order of their first terms
+        if self._low is None:
+            self._scan()
+        assert self._low is not None
+        low, low_key = self._low
         others = list(self._own.items()) + list(self._estimated.items())
-        low = min([shared[k].score for k in distinct] + [r.score for _, r in others])
-        # the first key reaching the lowest score has the earliest term among the shared keys
-        first_shared = next((k for k in distinct if shared[k].score == low), None)
+        if others:
+            low = min(low, min(r.score for _, r in others))
         candidates = [i for i, r in others if r.score == low]
-        if first_shared is not None:
-            candidates.append(self._keys.index(first_shared))
+        if low_key is not None and self._shared[low_key].score == low:
+            candidates.append(self._keys.index(low_key))
         return self._item(min(candidates))
 
     def positions(self, tiers: Iterable[str] | None = None) -> list[int]:
@@ -397,12 +426,12 @@ class TermTable(Sequence[Resolution]):
         """Missing terms per (kind, classes), each unassigned ``?`` followed by its atom's element
         (``?P``); ``elements`` are the molecule's, by atom index. Shared outcomes never have a ``?`` (a term
         with an unclassified atom is its own), so they are counted without looking at their terms."""
+        if self._missing is None:
+            self._scan()
+        assert self._missing is not None
         out: Counter[tuple[str, tuple[str, ...]]] = Counter()
-        shared = self._shared
-        for key, n in self._keys_used().items():
-            if key >= 0 and shared[key].tier == "missing":
-                o = shared[key]
-                out[o.kind, o.classes] += n
+        for kind, classes, n in self._missing:
+            out[kind, classes] += n
         for r in self._own.values():
             if r.tier == "missing":
                 out[r.term.kind, named_classes(r.term, elements)] += 1
