@@ -372,24 +372,19 @@ class FastAuditor:
             elements = tuple(a.GetSymbol() for a in molh().GetAtoms())
         else:
             elements = tuple(map(_SYMBOLS.__getitem__, z_local))
-        # classes
-        rules = context.rules.rules
-        assignments: list[Assignment] = []
+        # classes: one Assignment object per (atom index, rule), kept (the same pairs recur in every batch)
+        atom_rules = done.atom_rule[lo:hi]
+        cache = self._assignments
+        assignments = [
+            cache.get(pair) or self._assignment(*pair) for pair in enumerate(atom_rules)
+        ]
         findings: list[Finding] = []
-        for local, rule_index in enumerate(done.atom_rule[lo:hi]):
-            if rule_index >= 0:
-                atom_key = (local, rule_index)
-                assignment = self._assignments.get(atom_key)
-                if assignment is None:
-                    rule = rules[rule_index]
-                    assignment = Assignment(
-                        local, rule.class_id, f"{rule.class_id}/{rule.number}", rule.location
-                    )
-                    self._assignments[atom_key] = assignment
-            else:
-                assignment = Assignment(local, None, None, None)
-                findings.append(self._unclassified(local, elements[local]))
-            assignments.append(assignment)
+        if min(atom_rules, default=0) < 0:
+            findings = [
+                self._unclassified(local, elements[local])
+                for local, rule_index in enumerate(atom_rules)
+                if rule_index < 0
+            ]
         # terms and resolutions, in the reference's order
         types_cache: list[MoleculeTypes | None] = []
 
@@ -455,6 +450,18 @@ class FastAuditor:
             elements=elements,
             proposed=proposed,
         )
+
+    def _assignment(self, atom: int, rule_index: int) -> Assignment:
+        """The class assignment of ``atom`` by rule ``rule_index`` (-1: no rule matched), made once."""
+        if rule_index < 0:
+            assignment = Assignment(atom, None, None, None)
+        else:
+            rule = self.context.rules.rules[rule_index]
+            assignment = Assignment(
+                atom, rule.class_id, f"{rule.class_id}/{rule.number}", rule.location
+            )
+        self._assignments[atom, rule_index] = assignment
+        return assignment
 
     def _unclassified(self, atom: int, element: str) -> Finding:
         """The finding :meth:`ClassRules.perceive` makes for an atom no rule matches (kept per atom and

@@ -88,6 +88,14 @@ class MoleculeTypes:
             self._types[atom] = typing
         return typing
 
+    def typings(self, atoms: tuple[int, ...]) -> tuple[UffTyping, ...]:
+        """The typings of ``atoms``, in order."""
+        known = self._types
+        try:
+            return tuple([known[i] for i in atoms])
+        except KeyError:
+            return tuple([self.of(i) for i in atoms])
+
     def atom(self, index: int) -> tuple[str, Any, int, frozenset[int]]:
         """(symbol, RDKit hybridisation, degree, neighbour indices) of atom ``index``."""
         info = self._atoms.get(index)
@@ -133,7 +141,7 @@ def estimate_signature(term: Term, types: MoleculeTypes) -> Signature | str:
     rule = RULE_IDS.get(kind)
     if rule is None:
         return f"ffaudit has no published rule to estimate {kind} terms"
-    typings = tuple(types.of(i) for i in term.atoms)
+    typings = types.typings(term.atoms)
     for i, t in zip(term.atoms, typings, strict=True):
         if t.label is None:
             return f"atom {i}: no UFF type ({t.reason})"
