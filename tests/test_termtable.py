@@ -12,6 +12,7 @@ from __future__ import annotations
 import pickle
 from collections import Counter
 
+import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -29,6 +30,7 @@ from ffaudit.termtable import (
     ESTIMATED,
     OWN,
     PROBLEM_TIERS,
+    AtomRows,
     SharedOutcome,
     TermTable,
     named_classes,
@@ -145,7 +147,53 @@ def tables(draw: st.DrawFn) -> tuple[TermTable, tuple[Resolution, ...]]:
             keys.append(key)
             atoms.append(a)
             expected.append(outcomes[key].resolution(a))
+    if draw(
+        st.booleans()
+    ):  # the fast path's storage: rows of integer arrays, one per run of a width
+        atoms = _as_rows(
+            [
+                a if a is not None else (0,) * SIZES[expected[i].term.kind]
+                for i, a in enumerate(atoms)
+            ]
+        )
     return TermTable(atoms, keys, outcomes, own, estimated), tuple(expected)
+
+
+def _as_rows(atoms: list[tuple[int, ...]]) -> AtomRows:
+    """``atoms`` as an :class:`AtomRows` of one array per run of equally long tuples."""
+    parts: list[list[tuple[int, ...]]] = []
+    for a in atoms:
+        if parts and len(parts[-1][0]) == len(a):
+            parts[-1].append(a)
+        else:
+            parts.append([a])
+    return AtomRows([np.array(p, dtype=np.int64) for p in parts])
+
+
+@settings(max_examples=100, deadline=None)
+@given(
+    st.lists(
+        st.sampled_from([2, 3, 4]).flatmap(
+            lambda n: st.lists(st.integers(0, 500), min_size=n, max_size=n).map(tuple)
+        ),
+        max_size=25,
+    ),
+    st.data(),
+)
+def test_atom_rows_answer_as_the_list_of_tuples(
+    atoms: list[tuple[int, ...]], data: st.DataObject
+) -> None:
+    rows = _as_rows(atoms)
+    assert len(rows) == len(atoms)
+    for i in range(-len(atoms), len(atoms)):  # one row at a time, before anything is converted
+        assert _as_rows(atoms)[i] == atoms[i]
+        assert type(_as_rows(atoms)[i]) is tuple
+    for bad in (len(atoms), -len(atoms) - 1):
+        with pytest.raises(IndexError):
+            _as_rows(atoms)[bad]
+    lo = data.draw(st.integers(0, len(atoms)))
+    assert rows[lo:] == atoms[lo:]
+    assert rows.materialise() == atoms and list(rows) == atoms
 
 
 @settings(max_examples=150, deadline=None)

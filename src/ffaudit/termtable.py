@@ -26,6 +26,7 @@ from typing import Any, overload
 from ffaudit.paramset.canonical import UNASSIGNED
 from ffaudit.paramset.model import Entry, ParameterSet
 from ffaudit.resolve.driver import Resolution, SharedEstimate
+from ffaudit.resolve.estimate import assumed_types
 from ffaudit.score import TIERS
 from ffaudit.termdict import resolution_dict
 from ffaudit.terms import Term
@@ -155,12 +156,16 @@ _SLOT = re.compile(r"-10{14}([0-9])")
 
 def estimate_json(shared: SharedEstimate, pset: ParameterSet, atoms: tuple[int, ...]) -> str:
     """The compact JSON of the term dict of the estimate ``shared`` on ``atoms``: byte-identical to encoding
-    :func:`resolution_dict` of its resolution. The text is made once per estimate and set, from a real
-    resolution on stand-in atoms, and split where the atom numbers go."""
+    :func:`resolution_dict` of its resolution. The first term of an estimate is encoded directly; from the
+    second on, a template made once per estimate and set (from a real resolution on stand-in atoms, split
+    where the atom numbers go) is filled in, so estimates used once cost no template."""
     template = shared.template
     if template is None or template[0] is not pset:
+        shared.template = (pset, None, None)
+        return _compact(estimate_dict(shared, pset, atoms))
+    if template[1] is None:
         stand_in = tuple(_SENTINEL - k for k in range(len(atoms)))
-        text = _compact(resolution_dict(shared.resolution(stand_in), pset))
+        text = _compact(estimate_dict(shared, pset, stand_in))
         pieces = _SLOT.split(text)  # literal, slot, literal, slot, ..., literal
         template = (pset, pieces[0::2], [int(k) for k in pieces[1::2]])
         shared.template = template
@@ -178,6 +183,29 @@ def named_classes(term: Term, elements: Sequence[str]) -> tuple[str, ...]:
         f"{UNASSIGNED}{elements[atom]}" if c == UNASSIGNED else c
         for c, atom in zip(term.classes, term.atoms, strict=True)
     )
+
+
+def estimate_dict(
+    shared: SharedEstimate, pset: ParameterSet, atoms: tuple[int, ...]
+) -> dict[str, Any]:
+    """The term dict of the estimate ``shared`` on ``atoms``: equal to :func:`resolution_dict` of its
+    resolution. Made from a template (a real resolution's dict, once per estimate and set) in which only
+    what names atoms is replaced: the atoms, the provenance's ``assumed`` list and, for unclassified atoms,
+    the reason. Nested values are shared with the template: never mutate them."""
+    template = shared.dict_template
+    if template is None or template[0] is not pset:
+        first = resolution_dict(shared.resolution(atoms), pset)
+        shared.dict_template = (pset, first)
+        return dict(first)
+    out = dict(template[1])
+    out["atoms"] = list(atoms)
+    provenance = dict(out["provenance"])
+    inputs = dict(provenance["inputs"])
+    inputs["assumed"] = assumed_types(atoms, shared.typings)
+    provenance["inputs"] = inputs
+    out["provenance"] = provenance
+    out["reason"] = shared.reason_of(atoms)
+    return out
 
 
 class AtomRows(Sequence[tuple[int, ...]]):
@@ -498,7 +526,7 @@ class TermTable(Sequence[Resolution]):
             elif key == ESTIMATED:
                 a = atoms[i]
                 assert a is not None
-                append(resolution_dict(self._estimated[i].resolution(a), pset))
+                append(estimate_dict(self._estimated[i], pset, a))
             else:
                 a = atoms[i]
                 assert a is not None

@@ -17,6 +17,7 @@ from typing import TYPE_CHECKING, Any
 
 from ffaudit.resolve.driver import Resolution, SharedEstimate
 from ffaudit.termdict import resolution_dict
+from ffaudit.termtable import estimate_dict
 
 if TYPE_CHECKING:
     from ffaudit.audit import MoleculeAudit
@@ -184,7 +185,7 @@ def _terms_column_of_audits(
     for audit in audits:
         for item, term_atoms in audit.table.listed(terms):
             if isinstance(item, SharedEstimate):  # its provenance names the atoms: a row per term
-                shown = resolution_dict(item.resolution(term_atoms), pset)
+                shown = estimate_dict(item, pset, term_atoms)
                 shown_dicts.append(shown)
                 rows.append(_term_row(shown, memo))
                 picks.append(len(rows) - 1)

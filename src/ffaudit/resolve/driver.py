@@ -78,12 +78,13 @@ class SharedEstimate:
     the same facts the rule reads): all of the term's resolution but its atoms, which only the provenance's
     ``assumed`` list names, and for a term with unclassified atoms the reason.
 
-    Termtable output code may keep the term's JSON template in ``template``.
+    Termtable output code may keep the term's JSON and dict templates in ``template`` and
+    ``dict_template``.
     """
 
     __slots__ = (
         "kind", "classes", "order", "ring", "entry", "score", "reason", "cause", "estimate",
-        "typings", "template",
+        "typings", "template", "dict_template",
     )  # fmt: skip
     tier = "estimate"
     substitutions: tuple[tuple[int, str, str], ...] = ()
@@ -112,6 +113,13 @@ class SharedEstimate:
         self.estimate = estimate
         self.typings = typings
         self.template: Any = None
+        self.dict_template: Any = None
+
+    def reason_of(self, atoms: tuple[int, ...]) -> str | None:
+        """The reason of the term on ``atoms`` (no set parameter; for unclassified atoms it names them)."""
+        if self.cause == "no-class":
+            return no_class_reason(atoms, self.classes)
+        return self.reason
 
     def details(self, atoms: tuple[int, ...]) -> dict[str, Any]:
         """The provenance details of the term on ``atoms``: rule, citation, inputs, cross-checks."""
@@ -129,11 +137,8 @@ class SharedEstimate:
         """The resolution of the term on ``atoms`` (``term``, when given, is that term)."""
         if term is None:
             term = Term(self.kind, atoms, self.classes, self.order, self.ring)
-        reason = self.reason
-        if self.cause == "no-class":
-            reason = no_class_reason(atoms, self.classes)
         return Resolution(
-            term, "estimate", self.entry, self.score, reason, self.cause,
+            term, "estimate", self.entry, self.score, self.reason_of(atoms), self.cause,
             details=self.details(atoms),
         )  # fmt: skip
 
