@@ -453,6 +453,29 @@ def test_a_pending_chunk_whose_worker_died_unnoticed_counts_as_a_break(context, 
         backend.close()
 
 
+def test_a_discarded_pool_does_not_wait_for_half_a_result(context):
+    # A worker killed while it wrote a result leaves half a message in the pool's result pipe; the pool's
+    # manager thread then waits for the rest for ever and the interpreter hangs at exit (it joins that
+    # thread). Here the half message is written by hand: a length header promising 1,000 bytes, then 10.
+    import struct
+
+    backend = ProcessBackend(context, ChunkOptions(), jobs=1)
+    pool = backend._pool
+    try:
+        pool.submit(int, 0).result(timeout=60)  # the workers and the manager thread are running
+        manager = pool._executor_manager_thread
+        assert manager is not None and manager.is_alive()
+        pool._result_queue._writer._send(struct.pack("!i", 1000) + b"x" * 10)
+        time.sleep(0.5)  # the manager thread reads the header and waits for the other 990 bytes
+        assert manager.is_alive()
+        backend._discard_pool()
+        manager.join(timeout=15)
+        assert not manager.is_alive()
+    finally:
+        backend._pool = backend._start()
+        backend.close()
+
+
 # --------------------------------------------------------------------------- SIGKILL and --resume
 
 

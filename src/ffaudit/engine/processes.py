@@ -143,14 +143,28 @@ class ProcessBackend:
         return any(process.exitcode is not None for process in list(processes.values()))
 
     def _discard_pool(self) -> None:
-        """Shut the current pool down without waiting on it (it may be wedged) and end its workers."""
-        processes = list((getattr(self._pool, "_processes", None) or {}).values())
-        self._pool.shutdown(wait=False, cancel_futures=True)
+        """Shut the current pool down without waiting on it (it may be wedged) and end its workers.
+
+        A worker killed while it wrote a result leaves half a message in the result pipe, and the pool's
+        manager thread waits for the rest for ever, which would also hang the interpreter at exit (it
+        joins that thread). With the workers gone, closing this process's end of the pipe gives the thread
+        end-of-file: it then marks the pool broken and ends. (``shutdown`` drops the pool's references to
+        the pipe and the thread, so they are taken first.)
+        """
+        pool = self._pool
+        processes = list((getattr(pool, "_processes", None) or {}).values())
+        writer = getattr(getattr(pool, "_result_queue", None), "_writer", None)
+        manager = getattr(pool, "_executor_manager_thread", None)
+        pool.shutdown(wait=False, cancel_futures=True)
         for process in processes:
             if process.exitcode is None:
                 process.kill()
         for process in processes:
             process.join(timeout=10)
+        if writer is not None:
+            writer.close()
+        if manager is not None:
+            manager.join(timeout=10)
 
     def _recover(self, job: ChunkJob) -> None:
         """Replace the broken pool and submit again every chunk that has not come back."""
