@@ -17,14 +17,15 @@ nonbonded      ``uff-vdw``         UFF x_I / 2 and D_I
 
 The estimate depends on UFF atom types, which a class does not always determine: the provenance lists the
 type assumed for every atom and why. Charge increments and stretch-bend cross terms have no rule here, so
-they stay missing. Nothing here raises: a rule that does not apply gives ``None`` and a reason.
+they stay missing. Nothing here raises: where a rule does not apply, the reason (a string) comes back
+instead of a signature or an estimate.
 """
 
 from __future__ import annotations
 
 import contextlib
 from collections.abc import Mapping
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from typing import Any
 
 from rdkit import Chem
@@ -204,18 +205,6 @@ def with_assumed(inputs: Mapping[str, Any], assumed: list[str]) -> dict[str, Any
     out = {"uff_types": inputs["uff_types"], "assumed": assumed}
     out.update((k, v) for k, v in inputs.items() if k != "uff_types")
     return out
-
-
-def estimate_term(term: Term, types: MoleculeTypes) -> tuple[Estimate | None, str | None]:
-    """Estimate ``term`` by the rule for its kind; (estimate, None) or (None, reason)."""
-    signature = estimate_signature(term, types)
-    if isinstance(signature, str):
-        return None, signature
-    estimate = estimate_from_signature(signature)
-    if isinstance(estimate, str):
-        return None, estimate
-    inputs = with_assumed(estimate.inputs, assumed_types(term.atoms, signature[1]))
-    return replace(estimate, inputs=inputs), None
 
 
 def _dihedral_facts(term: Term, types: MoleculeTypes) -> tuple[Any, ...] | str:
