@@ -68,6 +68,16 @@ def no_class_reason(atoms: tuple[int, ...], classes: tuple[str, ...]) -> str:
     return f"atom {unassigned} has no class (no class rule matches)"
 
 
+def _tuple_key(term: Term) -> tuple[Any, ...]:
+    """What the set tiers' outcome of ``term`` depends on: its kind, classes and qualifiers."""
+    return (term.kind, term.classes, term.bond_order, term.in_ring)
+
+
+def _no_estimate(term: Term, missing: _Outcome, why: str) -> Resolution:
+    """``term`` stays missing: the set has no parameter (``missing``) and no rule applies (``why``)."""
+    return Resolution(term, "missing", None, 0.0, f"{missing.reason}; no estimate: {why}", missing.cause)
+
+
 ESTIMATE_CACHE_LIMIT = 50_000
 """Signatures whose estimates the resolver keeps; the cache is emptied when it is full (memory stays
 bounded on diverse libraries; the next terms are estimated anew)."""
@@ -168,7 +178,7 @@ class Resolver:
 
     def resolve(self, term: Term, types: MoleculeTypes | None = None) -> Resolution:
         """Resolve one term; ``types`` (the molecule's UFF typing) enables the estimate tier."""
-        key = (term.kind, term.classes, term.bond_order, term.in_ring)
+        key = _tuple_key(term)
         outcome = self._cache.get(key)
         if outcome is None:
             outcome = self._resolve(term)
@@ -197,7 +207,7 @@ class Resolver:
         gives a value that terms of the same signature share, else the term's own :class:`Resolution`
         (``missing``, with the reason). Requires the estimate tier; never raises for chemistry the rules
         cannot handle."""
-        missing = self._cache.get((term.kind, term.classes, term.bond_order, term.in_ring))
+        missing = self._cache.get(_tuple_key(term))
         if missing is None:
             missing = self._resolve(term)
         return self._estimate_of(term, types, missing)
@@ -207,9 +217,8 @@ class Resolver:
     ) -> SharedEstimate | Resolution:
         signature = estimate_signature(term, types)
         if isinstance(signature, str):
-            reason = f"{missing.reason}; no estimate: {signature}"
-            return Resolution(term, "missing", None, 0.0, reason, missing.cause)
-        key = (term.kind, term.classes, term.bond_order, term.in_ring, signature)
+            return _no_estimate(term, missing, signature)
+        key = (*_tuple_key(term), signature)
         shared = self._estimates.get(key)
         if shared is None:
             shared = self._share_estimate(term, signature, missing)
@@ -217,8 +226,7 @@ class Resolver:
                 self._estimates.clear()
             self._estimates[key] = shared
         if isinstance(shared, str):
-            reason = f"{missing.reason}; no estimate: {shared}"
-            return Resolution(term, "missing", None, 0.0, reason, missing.cause)
+            return _no_estimate(term, missing, shared)
         return shared
 
     def _share_estimate(
