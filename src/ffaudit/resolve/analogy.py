@@ -38,6 +38,10 @@ class AnalogyWeights:
 DEFAULT_WEIGHTS = AnalogyWeights()
 
 
+_Donor = tuple[int, Entry, tuple[str, ...]]
+"""(position in the table's order of orientations, entry, the entry's classes in this orientation)."""
+
+
 @dataclass(frozen=True)
 class AnalogyMatch:
     entry: Entry
@@ -79,6 +83,7 @@ class AnalogyFinder:
         self.weights = weights
         self.classes = index.pset.class_index
         self._cost: dict[tuple[str, str], float | None] = {}
+        self._donors: dict[str, dict[tuple[str, ...], list[_Donor]]] = {}
 
     def _class_cost(self, a: str, b: str) -> float | None:
         key = (a, b)
@@ -90,23 +95,57 @@ class AnalogyFinder:
         return self._cost[key]
 
     def find(self, term: Term) -> AnalogyMatch | None:
-        """The cheapest compatible donor for ``term``, or None."""
-        table = self.index.tables.get(term.kind) or {}
+        """The cheapest compatible donor for ``term``, or None.
+
+        Only donor orientations whose elements agree with the term's at every position (or that have ``*``
+        there) are scored: any other costs infinity (:func:`class_cost`). They are looked up by element
+        pattern and scored in the table's order, so ties go as they would over the whole table.
+        """
+        by_pattern = self._donors.get(term.kind)
+        if by_pattern is None:
+            by_pattern = self._donors[term.kind] = self._index_donors(term.kind)
+        wanted = tuple(self._element_key(c) for c in term.classes)
+        patterns = {
+            tuple(WILDCARD if mask >> i & 1 else key for i, key in enumerate(wanted))
+            for mask in range(1 << len(wanted))
+        }
+        found: list[_Donor] = []
+        for pattern in patterns:
+            found += by_pattern.get(pattern, ())
+        found.sort(key=lambda donor: donor[0])
         best: tuple[float, tuple[str, ...], AnalogyMatch] | None = None
-        for entry in table.values():
+        for _, entry, orientation in found:
             if entry.bond_order not in (None, term.bond_order) or entry.in_ring not in (
                 None,
                 term.in_ring,
             ):
                 continue
-            for orientation in _orientations(term.kind, entry.classes):
-                match = self._score(term, entry, orientation)
-                if match is None:
-                    continue
-                rank = (match.cost, entry.classes)
-                if best is None or rank < best[:2]:
-                    best = (match.cost, entry.classes, match)
+            match = self._score(term, entry, orientation)
+            if match is None:
+                continue
+            rank = (match.cost, entry.classes)
+            if best is None or rank < best[:2]:
+                best = (match.cost, entry.classes, match)
         return None if best is None else best[2]
+
+    def _element_key(self, class_id: str) -> str:
+        """The element of ``class_id``; for a class the set does not declare, a key only the same id has
+        (such a class costs nothing against itself and cannot stand in for any other)."""
+        if class_id == WILDCARD:
+            return WILDCARD
+        declared = self.classes.get(class_id)
+        return declared.element if declared is not None else "\0" + class_id
+
+    def _index_donors(self, kind: str) -> dict[tuple[str, ...], list[_Donor]]:
+        """Every orientation of every entry of ``kind``, numbered in table order, by element pattern."""
+        by_pattern: dict[tuple[str, ...], list[_Donor]] = {}
+        number = 0
+        for entry in (self.index.tables.get(kind) or {}).values():
+            for orientation in _orientations(kind, entry.classes):
+                pattern = tuple(self._element_key(c) for c in orientation)
+                by_pattern.setdefault(pattern, []).append((number, entry, orientation))
+                number += 1
+        return by_pattern
 
     def _score(self, term: Term, entry: Entry, donor: tuple[str, ...]) -> AnalogyMatch | None:
         if len(donor) != len(term.classes):
