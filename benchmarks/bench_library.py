@@ -104,7 +104,9 @@ def ffaudit_run(
 
 
 def engine_run(path: str, backend: str, jobs: int, tmp: str) -> float:
-    """Seconds to audit ``path`` on a started back-end, JSON lines made by the workers (``--terms all``).
+    """Seconds to audit ``path`` on a started back-end, JSON lines made by the workers (``--terms all``) and
+    received here (worker processes spool them to files, which are read back and removed, as
+    ``ffaudit audit --format jsonl`` does).
 
     The back-end is opened and every worker is given one tiny chunk first (starting the worker processes
     or the cluster and loading the set there), untimed; the class rules and caches stay cold for the
@@ -119,9 +121,12 @@ def engine_run(path: str, backend: str, jobs: int, tmp: str) -> float:
     with open(warm, "w") as handle:
         handle.write("".join(f"[He] {i}\n" for i in range(jobs)))
     context = AuditContext(load_parameter_set())
+    # worker processes leave their lines in a spool directory, as in ``ffaudit audit --format jsonl``;
+    # this process reads each chunk's file back (as the report would copy it) and removes it
+    spool = None if backend == "inprocess" else tempfile.mkdtemp(dir=tmp, prefix="spool-")
     runner = open_backend(
         context,
-        ChunkOptions(terms="all", encode=True),
+        ChunkOptions(terms="all", encode=True, spool=spool),
         backend=backend,
         jobs=jobs,
         scheduler="local" if backend == "dask" else None,
@@ -130,8 +135,11 @@ def engine_run(path: str, backend: str, jobs: int, tmp: str) -> float:
         for _ in ordered(runner, plan_library(warm, chunk_size=1)):
             pass
         start = time.perf_counter()
-        for _ in ordered(runner, plan_library(path, chunk_size=DEFAULT_CHUNK_SIZE)):
-            pass
+        for result in ordered(runner, plan_library(path, chunk_size=DEFAULT_CHUNK_SIZE)):
+            if result.spooled is not None:
+                with open(result.spooled, "rb") as spooled:
+                    spooled.read()
+                os.remove(result.spooled)
         return time.perf_counter() - start
     finally:
         runner.close()

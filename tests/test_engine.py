@@ -19,6 +19,7 @@ import re
 import signal
 import subprocess
 import sys
+import tempfile
 import time
 from collections.abc import Iterator
 from pathlib import Path
@@ -210,6 +211,43 @@ def test_cli_jsonl_is_identical_to_sequential_audit(engine, reference_jsonl):
     assert code == 0, err
     assert out == reference_jsonl
     assert "200 records" in err
+
+
+def test_spooled_chunks_reach_a_report_file_whole_and_leave_nothing_behind(
+    tmp_path, monkeypatch, reference_jsonl
+):
+    """--jobs 2 writing a JSONL file: the workers leave their chunks in a spool directory and the parent
+    copies them into the file (os.sendfile): the file is the sequential output byte for byte, and the
+    spool directory is gone afterwards."""
+    spool_root = tmp_path / "tmp"
+    spool_root.mkdir()
+    monkeypatch.setattr(tempfile, "tempdir", str(spool_root))
+    target = tmp_path / "out.jsonl"
+    code, _, err = cli(SDF200, "--format", "jsonl", "--fail-on", "never", "--jobs", "2",
+                       "--chunk-size", "16", "-o", str(target))
+    assert code == 0, err
+    assert target.read_bytes() == reference_jsonl.encode("utf-8")
+    assert list(spool_root.iterdir()) == []
+
+
+def test_jsonl_reporter_copies_a_file_into_text_and_binary_streams(tmp_path):
+    """add_file writes a file's lines as add_lines would: into a text stream without a buffer (decoded),
+    and into a real file after text already written to it (flushed first, then the kernel copy)."""
+    lines = "".join(f'{{"index":{i},"name":"caf\u00e9 {i}"}}\n' for i in range(3000)).encode("utf-8")
+    source = tmp_path / "chunk.jsonl"
+    source.write_bytes(lines)
+    text = io.StringIO()
+    JsonlReporter(text).add_file(str(source))
+    assert text.getvalue() == lines.decode("utf-8")
+    target = tmp_path / "report.jsonl"
+    with open(target, "w", encoding="utf-8", newline="\n") as out:
+        reporter = JsonlReporter(out)
+        reporter.add({"index": -1})
+        reporter.add_file(str(source))
+        reporter.add({"index": 3000})
+        reporter.add_lines(lines[:40])
+    expected = b'{"index":-1}\n' + lines + b'{"index":3000}\n' + lines[:40]
+    assert target.read_bytes() == expected
 
 
 def test_cli_json_report_is_identical_to_sequential_audit(reference_json):

@@ -13,7 +13,9 @@ manifest and ``summary.json``, which ``--resume`` continues after an interruptio
 from __future__ import annotations
 
 import argparse
+import contextlib
 import os
+import tempfile
 from collections.abc import Iterable, Iterator
 from typing import Any, TextIO
 
@@ -175,6 +177,11 @@ def _engine(args: argparse.Namespace) -> tuple[str, int]:
     return ("inprocess" if jobs == 1 else "processes"), jobs
 
 
+def _local_scheduler(args: argparse.Namespace) -> bool:
+    """True when the chunks run on this machine: no scheduler, or a LocalCluster started for the run."""
+    return args.scheduler in (None, "", "local")  # "local": ffaudit.engine.dask_backend.LOCAL
+
+
 def _peek(jobs: Iterator[ChunkJob]) -> tuple[list[ChunkJob], Iterator[ChunkJob]]:
     head: list[ChunkJob] = []
     for job in jobs:
@@ -252,8 +259,10 @@ def run(args: argparse.Namespace, stdout: TextIO, stderr: TextIO) -> int:
             total,
         )
     else:
+        # workers of this machine in processes of their own (--jobs N, a LocalCluster) spool their lines
+        spooling = backend == "processes" or (backend == "dask" and _local_scheduler(args))
         result = _run_report(
-            args, fmt, pset, run_info, chunk_jobs, audit, stdout, stderr, show, total
+            args, fmt, pset, run_info, chunk_jobs, audit, stdout, stderr, show, total, spooling
         )
     status = result["status"]
     print(
@@ -300,6 +309,7 @@ def _run_report(
     stderr: TextIO,
     show: bool,
     total: int | None,
+    spooling: bool = False,
 ) -> dict[str, Any]:
     from ffaudit.engine.progress import ProgressBar
     from ffaudit.report.base import make_reporter, open_output
@@ -315,14 +325,29 @@ def _run_report(
             # JSON lines are encoded by the workers (as in directory mode), so that the parent only
             # writes them: encoding in the parent would serialise the run on one core.
             encoded = isinstance(reporter, JsonlReporter)
-            for chunk in audit(chunk_jobs, ChunkOptions(terms=terms, encode=encoded)):
-                summary.merge(chunk.summary)
-                if isinstance(reporter, JsonlReporter):
-                    reporter.add_lines(chunk.jsonl or b"")
-                else:
-                    for molecule in chunk.molecules or ():
-                        reporter.add(molecule)
-                bar.advance(chunk.count)
+            with contextlib.ExitStack() as stack:
+                # worker processes on this machine leave their chunks' lines in a spool directory, which
+                # this process copies into the report: pickled through a pipe or a socket instead, the
+                # bytes (about 100 KB per molecule with --terms all) cost this process more CPU than the
+                # writing, CPU the workers need
+                spool = (
+                    stack.enter_context(tempfile.TemporaryDirectory(prefix="ffaudit-spool-"))
+                    if encoded and spooling
+                    else None
+                )
+                options = ChunkOptions(terms=terms, encode=encoded, spool=spool)
+                for chunk in audit(chunk_jobs, options):
+                    summary.merge(chunk.summary)
+                    if isinstance(reporter, JsonlReporter):
+                        if chunk.spooled is not None:
+                            reporter.add_file(chunk.spooled)
+                            os.remove(chunk.spooled)
+                        else:
+                            reporter.add_lines(chunk.jsonl or b"")
+                    else:
+                        for molecule in chunk.molecules or ():
+                            reporter.add(molecule)
+                    bar.advance(chunk.count)
         result = summary.to_dict()
         reporter.finish(result)
     return result
@@ -362,7 +387,7 @@ def _run_directory(
     out = OutputDirectory.open(directory, identity, resume=args.resume)
     # workers on this machine (in-process, --jobs, a LocalCluster) write their chunk files themselves, so
     # the chunks' bytes need not pass through this process; a remote cluster's workers send them here
-    local = args.scheduler in (None, "", "local")  # "local": ffaudit.engine.dask_backend.LOCAL
+    local = _local_scheduler(args)
     chunk_options = ChunkOptions(
         terms=args.terms,
         encode=True,

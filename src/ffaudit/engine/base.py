@@ -93,6 +93,12 @@ class ChunkOptions:
     """With ``encode``: the output directory the worker writes the chunk's JSONL (and Parquet) files into
     itself, returning only their names, sizes and sha256 (for workers that share the directory's file
     system: this process, local worker processes, a LocalCluster); None to return the bytes."""
+    spool: str | None = None
+    """With ``encode`` and no ``directory``: a directory on the workers' file system where each chunk's
+    JSON lines are written (``chunk-NNNNNN.jsonl``, atomically) instead of being sent back; the result names
+    the file (:attr:`ChunkResult.spooled`) and the receiver reads and removes it. For local workers, whose
+    results would otherwise be pickled through a pipe or a socket (with ``--terms all``, about 100 KB per
+    molecule)."""
 
 
 @dataclass(frozen=True)
@@ -115,7 +121,10 @@ class ChunkResult:
     """Set instead of ``jsonl`` and ``parquet`` when the worker wrote them into
     :attr:`ChunkOptions.directory`: kind -> ``{"name", "bytes", "sha256"}``."""
     lines: int | None = None
-    """With ``files``: the number of JSON lines the worker wrote."""
+    """With ``files`` or ``spooled``: the number of JSON lines the worker wrote."""
+    spooled: str | None = None
+    """With :attr:`ChunkOptions.spool`: the path of the file holding the chunk's JSON lines (set instead of
+    ``jsonl``); the receiver removes it once read."""
     worker: str = field(default="", compare=False)
 
 
@@ -189,7 +198,7 @@ def check_result(job: ChunkJob, result: ChunkResult) -> ChunkResult:
         )
     if result.molecules is not None:
         delivered = len(result.molecules)
-    elif result.files is not None:
+    elif result.files is not None or result.spooled is not None:
         delivered = result.lines or 0
     else:
         delivered = (result.jsonl or b"").count(b"\n")

@@ -89,10 +89,12 @@ class _KeyInfo:
 @dataclass
 class _KindRows:
     kind: str
-    bounds: IntArray
+    bounds: list[int]  # the rows of molecule m: bounds[m] .. bounds[m + 1]
     atoms: IntArray  # (n_terms, atoms per term): each molecule's own atom indices
     keys: list[int]
-    single: BoolArray | None  # terms resolved one by one (estimates, unclassified atoms), or None
+    singles: list[int]  # rows of the terms resolved one by one (estimates, unclassified atoms), in order
+    single_atoms: list[list[int]]  # their atoms
+    single_bounds: list[int]  # the singles of molecule m: single_bounds[m] .. single_bounds[m + 1]
 
 
 @dataclass
@@ -305,8 +307,10 @@ class FastAuditor:
     def _rows(self, kt: KindTerms, graph: HydrogenGraph, n_mols: int) -> _KindRows:
         kind_index = KINDS.index(kt.kind)
         n = len(kt)
+        bounds = kt.bounds(n_mols)
         if n == 0:
-            return _KindRows(kt.kind, kt.bounds(n_mols), np.zeros((0, 1), np.int64), [], None)
+            none = [0] * (n_mols + 1)
+            return _KindRows(kt.kind, bounds.tolist(), np.zeros((0, 1), np.int64), [], [], [], none)
         local = kt.atoms - graph.starts[kt.molecule][:, None]
         bits = self._rank_bits
         key = np.full(n, kind_index, dtype=np.int64)
@@ -335,10 +339,15 @@ class FastAuditor:
                     missing = found.tier == "missing" and self._estimate
                     outcomes[k] = None if missing else SharedOutcome.of(found)
             per_term.append(outcomes[k] is None)
-        single = None
         if any(per_term):
-            single = np.array(per_term, dtype=bool)[np.searchsorted(distinct, key)]
-        return _KindRows(kt.kind, kt.bounds(n_mols), local, key.tolist(), single)
+            rows = np.flatnonzero(np.array(per_term, dtype=bool)[np.searchsorted(distinct, key)])
+            singles, single_atoms = rows.tolist(), local[rows].tolist()
+            single_bounds = np.searchsorted(rows, bounds).tolist()
+        else:
+            singles, single_atoms, single_bounds = [], [], [0] * (n_mols + 1)
+        return _KindRows(
+            kt.kind, bounds.tolist(), local, key.tolist(), singles, single_atoms, single_bounds
+        )
 
     def _describe(self, kt: KindTerms, row: int) -> _KeyInfo:
         ranks = kt.ranks[row].tolist()
@@ -402,21 +411,20 @@ class FastAuditor:
         own: dict[int, Resolution] = {}
         estimated: dict[int, SharedEstimate] = {}
         for rows in done.rows:
-            start, end = int(rows.bounds[m]), int(rows.bounds[m + 1])
+            start, end = rows.bounds[m], rows.bounds[m + 1]
             if start == end:
                 continue
-            offset = len(keys_all)
-            part = rows.atoms[start:end]
-            keys = rows.keys[start:end]
-            atom_parts.append(part)
-            keys_all += keys
-            if rows.single is None:
+            offset = len(keys_all) - start  # term row r of the batch is term offset + r of this molecule
+            atom_parts.append(rows.atoms[start:end])
+            keys_all += rows.keys[start:end]
+            first, last = rows.single_bounds[m], rows.single_bounds[m + 1]
+            if first == last:
                 continue
-            singles = np.flatnonzero(rows.single[start:end])
-            if not len(singles):
-                continue
-            for i, atoms in zip(singles.tolist(), part[singles].tolist(), strict=True):
-                info = infos[keys[i]]
+            for row, atoms in zip(
+                rows.singles[first:last], rows.single_atoms[first:last], strict=True
+            ):
+                i = offset + row
+                info = infos[keys_all[i]]
                 term = Term(rows.kind, tuple(atoms), info.classes, info.order, info.ring)
                 found = (
                     resolver.estimate(term, cast("MoleculeTypes", types()))
@@ -424,11 +432,11 @@ class FastAuditor:
                     else resolver.resolve(term, None)
                 )
                 if isinstance(found, SharedEstimate):
-                    estimated[offset + i] = found
-                    keys_all[offset + i] = ESTIMATED
+                    estimated[i] = found
+                    keys_all[i] = ESTIMATED
                 else:
-                    own[offset + i] = found
-                    keys_all[offset + i] = OWN
+                    own[i] = found
+                    keys_all[i] = OWN
         # every key left in keys_all has a shared outcome (the others were replaced by OWN or ESTIMATED)
         resolved = TermTable(
             AtomRows(atom_parts),

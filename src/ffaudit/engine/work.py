@@ -13,6 +13,7 @@ import gc
 import os
 import socket
 from collections.abc import Iterator
+from pathlib import Path
 
 from ffaudit.audit import AuditContext, MoleculeAudit, Summary
 from ffaudit.engine.base import ChunkJob, ChunkOptions, ChunkResult, EngineError
@@ -127,6 +128,20 @@ def _run_chunk(context: AuditContext, job: ChunkJob, options: ChunkOptions) -> C
             summary,
             files=files,
             lines=text.count(b"\n"),
+            worker=worker,
+        )
+    if options.spool is not None and parquet is None:
+        from ffaudit.engine.outdir import chunk_file, write_atomic
+
+        path = os.path.join(options.spool, chunk_file(job.number, "jsonl"))
+        write_atomic(Path(path), text)
+        return ChunkResult(
+            job.number,
+            job.first,
+            job.count,
+            summary,
+            lines=text.count(b"\n"),
+            spooled=path,
             worker=worker,
         )
     return ChunkResult(

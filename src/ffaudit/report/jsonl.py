@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import json
 import os
+import shutil
 from collections.abc import Mapping
 from typing import Any, TextIO
 
@@ -40,13 +41,47 @@ class JsonlReporter:
         binary buffer when it writes UTF-8 on a platform whose line end is "\\n" (a file from
         ``open_output``, usually stdout, on POSIX); otherwise they are decoded and written as text, so
         that the stream's own encoding and newline translation apply."""
-        buffer = getattr(self.out, "buffer", None)
-        encoding = (getattr(self.out, "encoding", None) or "").lower().replace("-", "").replace("_", "")
-        if buffer is not None and encoding == "utf8" and os.linesep == "\n":
-            self.out.flush()
+        buffer = self._binary()
+        if buffer is not None:
             buffer.write(lines)
         else:
             self.out.write(lines.decode("utf-8"))
+
+    def add_file(self, path: str) -> None:
+        """Write the encoded molecules held in the file ``path`` (as :meth:`add_lines` would write its
+        bytes), copied by the kernel (``os.sendfile``) when the stream is a binary-ready file with a file
+        descriptor, else through a buffer. Raises ``OSError`` when the file cannot be read or the stream
+        not written."""
+        buffer = self._binary()
+        if buffer is None:
+            with open(path, "rb") as source:
+                self.add_lines(source.read())
+            return
+        with open(path, "rb") as source:
+            size = os.fstat(source.fileno()).st_size
+            sent = 0
+            try:
+                target = buffer.fileno()
+                buffer.flush()
+                while sent < size:
+                    n = os.sendfile(target, source.fileno(), sent, size - sent)
+                    if n == 0:
+                        break
+                    sent += n
+            except (AttributeError, OSError, ValueError):  # no descriptor, or sendfile cannot serve it
+                pass
+            source.seek(sent)
+            shutil.copyfileobj(source, buffer, 1 << 20)
+
+    def _binary(self) -> Any:
+        """The stream's binary buffer, flushed of pending text, when bytes can be written to it as they are
+        (UTF-8, "\\n" line ends); None otherwise."""
+        buffer = getattr(self.out, "buffer", None)
+        encoding = (getattr(self.out, "encoding", None) or "").lower().replace("-", "").replace("_", "")
+        if buffer is None or encoding != "utf8" or os.linesep != "\n":
+            return None
+        self.out.flush()
+        return buffer
 
     def finish(self, summary: Mapping[str, Any]) -> None:
         """Flush the stream; the summary is not part of the JSONL output."""
