@@ -235,6 +235,10 @@ def main() -> int:
         "write about 56 KB of JSON per molecule, 56 GB for 1M records)",
     )
     args = parser.parse_args()
+    # the in-process measurements run as the ffaudit command does, with its allocator settings
+    from ffaudit.engine import allocator
+
+    allocator.tune()
 
     lines = smiles_lines(args.records)
     print(

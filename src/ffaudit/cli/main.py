@@ -80,7 +80,11 @@ def run(argv: Sequence[str], stdout: TextIO, stderr: TextIO) -> int:
 
 
 def main(argv: Sequence[str] | None = None) -> int:
-    """Console entry point; streams are resolved at call time so tests can replace them."""
+    """Console entry point; streams are resolved at call time so tests can replace them. The command's
+    process gets ffaudit's allocator settings (:mod:`ffaudit.engine.allocator`), as its workers do."""
+    from ffaudit.engine import allocator
+
+    allocator.tune()
     return run(sys.argv[1:] if argv is None else argv, sys.stdout, sys.stderr)
 
 

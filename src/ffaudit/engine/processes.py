@@ -24,6 +24,7 @@ from concurrent.futures.process import BrokenProcessPool
 from typing import Any
 
 from ffaudit.audit import AuditContext
+from ffaudit.engine import allocator
 from ffaudit.engine.base import ChunkJob, ChunkOptions, ChunkResult, EngineError
 from ffaudit.engine.work import run_chunk
 
@@ -41,6 +42,7 @@ _WORKER_OPTIONS: ChunkOptions | None = None
 
 def _initialise(payload: bytes, options: ChunkOptions) -> None:
     global _WORKER_CONTEXT, _WORKER_OPTIONS
+    allocator.tune()
     _WORKER_CONTEXT = pickle.loads(payload)
     _WORKER_OPTIONS = options
 
