@@ -59,7 +59,6 @@ from ffaudit.terms_batch import NO_QUALIFIER, KindTerms, enumerate_batch
 from ffaudit.termtable import ESTIMATED, OWN, AtomRows, SharedOutcome, TermTable
 
 IntArray = NDArray[np.int64]
-BoolArray = NDArray[np.bool_]
 
 DEFAULT_BATCH_SIZE = 50
 """Molecules joined into one RDKit molecule (about 50 measured best; see benchmarks/bench_fast_path.py)."""
