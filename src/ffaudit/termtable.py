@@ -539,11 +539,11 @@ class TermTable(Sequence[Resolution]):
         Raises ``ValueError`` for a NaN or infinite value, as the encoder does.
         """
         positions = self._listed(terms)
+        if not positions:
+            return "[]"
         outputs = self._outputs(pset, positions)
         before = {k: v[1] for k, v in outputs.items()}
         after = {k: v[2] for k, v in outputs.items()}
-        if not positions:
-            return "[]"
         atoms, keys, own, estimated = (
             _atom_list(self._atoms),
             self._keys,
