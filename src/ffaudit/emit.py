@@ -82,6 +82,7 @@ class FragmentBuilder:
                 key = (r.term.kind, (canonical, bond_order, None))
                 if key in self.entries:
                     continue
+                source: str | None
                 if r.tier == "estimate":
                     how = f"rule {r.details.get('rule')}: {r.details.get('citation')}"
                     source = str(r.details.get("rule"))

@@ -113,7 +113,8 @@ def _without_plain_hydrogens(mol: Chem.Mol, keep: set[int]) -> Chem.Mol:
         atom.SetIntProp(_INDEX_PROP, atom.GetIdx())
         if atom.GetAtomicNum() == 1 and atom.GetIdx() in keep:
             atom.SetAtomMapNum(1)  # RemoveHs keeps mapped hydrogens when told to
-    params = Chem.RemoveHsParameters()
+    # Any: RDKit's type stubs give these option attributes the type of their owner class
+    params: Any = Chem.RemoveHsParameters()
     params.removeMapped = False
     params.showWarnings = False
     try:
@@ -154,7 +155,7 @@ def draw(
         bond_index[(min(a, b), max(a, b))] = bond.GetIdx()
     rdDepictor.Compute2DCoords(shown)
     drawer = rdMolDraw2D.MolDraw2DSVG(size[0], size[1], -1, -1, True)
-    options = drawer.drawOptions()
+    options: Any = drawer.drawOptions()  # Any: see params in _without_plain_hydrogens
     options.fillHighlights = True
     options.highlightRadius = 0.35
     options.annotationFontScale = 0.6

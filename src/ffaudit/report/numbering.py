@@ -221,7 +221,7 @@ def read_records(
             continue
         last = max(needed)
         try:
-            for record in iter_records(path, fmt, **dict(options or {})):  # type: ignore[arg-type]
+            for record in iter_records(path, fmt, **dict(options or {})):
                 if record.record in needed:
                     found[(shown, record.record)] = record
                 if record.record >= last:

@@ -14,6 +14,7 @@ from __future__ import annotations
 import base64
 import io
 from collections.abc import Mapping, Sequence
+from typing import Any
 
 import matplotlib
 
@@ -35,7 +36,8 @@ STATUS_COLOURS: Mapping[str, str] = {
     "incomplete": "#b71c1c",
     "unreadable": "#757575",
 }
-_RC = {"svg.fonttype": "none", "font.size": 9.0, "axes.spines.top": False, "axes.spines.right": False}
+# typed loosely: matplotlib types rc keys as a Literal of every rc name
+_RC: dict[Any, Any] = {"svg.fonttype": "none", "font.size": 9.0, "axes.spines.top": False, "axes.spines.right": False}
 _METADATA = {"Date": None, "Creator": None, "Format": None, "Type": None}
 
 
