@@ -175,11 +175,7 @@ class MoleculeAudit:
 
 def estimated_entry_finding(resolutions: Sequence[Resolution]) -> Finding | None:
     """The warning for terms resolved from entries the set itself marks ``estimated: true``; None if none."""
-    unreviewed = sum(
-        n
-        for _, tier, entry, _, n in _table(resolutions).groups()
-        if entry is not None and entry.estimated and tier in RESOLVED_FROM_SET
-    )
+    unreviewed = _table(resolutions).unreviewed()
     if not unreviewed:
         return None
     return Finding(
@@ -300,10 +296,10 @@ def decide_status(
     resolutions: Sequence[Resolution], findings: Sequence[Finding]
 ) -> tuple[str, str | None]:
     """Status and reason from a molecule's resolutions (pure function)."""
-    groups = _table(resolutions).groups()
+    counts = _table(resolutions).tier_counts()
     missing: Counter[str] = Counter()
-    for kind, tier, _, _, n in groups:
-        if tier == "missing":
+    for (kind, tier), n in counts.items():
+        if tier == "missing" and n:
             missing[kind] += n
     if missing:
         parts = [
@@ -314,7 +310,7 @@ def decide_status(
         if unclassified:
             reason += f"; {len(unclassified)} atoms without a class"
         return "incomplete", reason
-    estimated = sum(n for _, tier, _, _, n in groups if tier not in RESOLVED_FROM_SET)
+    estimated = sum(n for (_, tier), n in counts.items() if tier not in RESOLVED_FROM_SET)
     if estimated:
         return "estimated", f"{estimated} terms resolved only by estimates"
     return "covered", None

@@ -27,7 +27,7 @@ from ffaudit.paramset.canonical import UNASSIGNED
 from ffaudit.paramset.model import Entry, ParameterSet
 from ffaudit.resolve.driver import Resolution, SharedEstimate
 from ffaudit.resolve.estimate import assumed_types
-from ffaudit.score import TIERS
+from ffaudit.score import RESOLVED_FROM_SET, TIERS
 from ffaudit.termdict import resolution_dict
 from ffaudit.terms import Term
 
@@ -67,6 +67,7 @@ class SharedOutcome:
         "substitutions",
         "group",
         "kind_tier",
+        "unreviewed",
         "_output",
     )
 
@@ -95,6 +96,7 @@ class SharedOutcome:
         self.substitutions = substitutions
         self.group = (kind, tier, entry, score)  # the start of its rows in TermTable.groups
         self.kind_tier = (kind, tier)
+        self.unreviewed = unreviewed_entry(tier, entry)
         self._output: tuple[ParameterSet, dict[str, Any], str, str] | None = None
 
     @classmethod
@@ -131,6 +133,35 @@ class SharedOutcome:
         after = "]," + _compact(tail)[1:]
         self._output = (pset, tail, before, after)
         return tail, before, after
+
+
+def unreviewed_entry(tier: str, entry: Entry | None) -> bool:
+    """True for a term resolved from a set entry the set itself marks ``estimated: true`` (not reviewed)."""
+    return entry is not None and entry.estimated and tier in RESOLVED_FROM_SET
+
+
+class SharedTotals:
+    """The totals of the terms of one molecule that have a shared outcome, made for many molecules at once
+    (the fast path counts them for a whole batch with numpy; see ``ffaudit.engine.batch``).
+
+    ``counts``: terms per (kind, tier); ``unreviewed``: terms resolved from set entries marked estimated;
+    ``missing``: (kind, classes, terms) per missing tuple, in the order of each tuple's first term;
+    ``low``: the lowest score and the position of the first term that has it (None without such terms).
+    """
+
+    __slots__ = ("counts", "unreviewed", "missing", "low")
+
+    def __init__(
+        self,
+        counts: dict[tuple[str, str], int],
+        unreviewed: int,
+        missing: list[tuple[str, tuple[str, ...], int]],
+        low: tuple[float, int | None],
+    ) -> None:
+        self.counts = counts
+        self.unreviewed = unreviewed
+        self.missing = missing
+        self.low = low
 
 
 _ATOM_TEXT: dict[tuple[int, ...], str] = {}
@@ -266,13 +297,15 @@ class TermTable(Sequence[Resolution]):
     ``atoms[i]`` and ``keys[i]`` describe term ``i``: ``shared[keys[i]]`` is its outcome; or ``keys[i]`` is
     :data:`ESTIMATED` and ``estimated[i]`` its shared estimate; or ``keys[i]`` is :data:`OWN` and ``own[i]``
     is its resolution (``atoms[i]`` is then unused). The table never changes; ``shared`` may be a larger
-    mapping (the fast path's, shared by many tables) that only grows. Raises ``ValueError`` when the
-    lengths of ``atoms`` and ``keys`` differ.
+    mapping (the fast path's, shared by many tables) that only grows. ``totals``, when given, are the
+    totals of the terms with a shared outcome, counted beforehand (:class:`SharedTotals`); they must be
+    those of ``keys``, which is not checked. Raises ``ValueError`` when the lengths of ``atoms`` and
+    ``keys`` differ.
     """
 
     __slots__ = (
-        "_atoms", "_keys", "_shared", "_own", "_estimated", "_items", "_groups", "_counts",
-        "_key_counts", "_missing", "_low",
+        "_atoms", "_keys", "_shared", "_own", "_estimated", "_totals", "_items", "_groups", "_counts",
+        "_key_counts", "_missing", "_low", "_unreviewed",
     )  # fmt: skip
 
     def __init__(
@@ -282,6 +315,7 @@ class TermTable(Sequence[Resolution]):
         shared: Mapping[int, SharedOutcome],
         own: Mapping[int, Resolution],
         estimated: Mapping[int, SharedEstimate] | None = None,
+        totals: SharedTotals | None = None,
     ) -> None:
         if len(atoms) != len(keys):
             raise ValueError(f"{len(atoms)} atom tuples for {len(keys)} keys")
@@ -290,12 +324,14 @@ class TermTable(Sequence[Resolution]):
         self._shared = shared
         self._own = own
         self._estimated: Mapping[int, SharedEstimate] = estimated or {}
+        self._totals = totals
         self._items: tuple[Resolution, ...] | None = None
         self._groups: list[tuple[str, str, Entry | None, float, int]] | None = None
         self._counts: Counter[tuple[str, str]] | None = None
         self._key_counts: Counter[int] | None = None
         self._missing: list[tuple[str, tuple[str, ...], int]] | None = None
-        self._low: tuple[float, int | None] | None = None
+        self._low: tuple[float, int | None] | None = None  # (lowest score, its first term's position)
+        self._unreviewed: int | None = None
 
     @classmethod
     def of(cls, resolutions: Iterable[Resolution]) -> TermTable:
@@ -362,44 +398,63 @@ class TermTable(Sequence[Resolution]):
             self._key_counts = Counter(self._keys)
         return self._key_counts
 
-    def _scan(self) -> None:
-        """One pass over the keys used, in the order of their first terms, for :meth:`groups`,
-        :meth:`tier_counts`, :meth:`missing_tuples` and :meth:`lowest`."""
+    def _shared_totals(self) -> SharedTotals:
+        """The totals of the terms with a shared outcome: the given ones, or one pass over the keys used."""
+        if self._totals is not None:
+            return self._totals
         shared = self._shared
-        groups: list[tuple[str, str, Entry | None, float, int]] = []
         counts: dict[tuple[str, str], int] = {}
         missing: list[tuple[str, tuple[str, ...], int]] = []
+        unreviewed = 0
         low = float("inf")
         low_key: int | None = None
         for key, n in self._keys_used().items():
             if key < 0:
                 continue
             o = shared[key]
-            groups.append(o.group + (n,))
             kind_tier = o.kind_tier
             counts[kind_tier] = counts.get(kind_tier, 0) + n
             if o.score < low:  # the first key to reach the lowest score has the earliest term
                 low, low_key = o.score, key
             if o.tier == "missing":
                 missing.append((o.kind, o.classes, n))
+            if o.unreviewed:
+                unreviewed += n
+        position = None if low_key is None else self._keys.index(low_key)
+        return SharedTotals(counts, unreviewed, missing, (low, position))
+
+    def _scan(self) -> None:
+        """The totals for :meth:`tier_counts`, :meth:`missing_tuples`, :meth:`lowest` and
+        :meth:`unreviewed`: those of the shared outcomes plus the estimated and own terms."""
+        totals = self._shared_totals()
+        counts = dict(totals.counts)
+        unreviewed = totals.unreviewed
         for e, n in Counter(self._estimated.values()).items():
-            groups.append((e.kind, e.tier, e.entry, e.score, n))
             counts[e.kind, e.tier] = counts.get((e.kind, e.tier), 0) + n
+            if unreviewed_entry(e.tier, e.entry):
+                unreviewed += n
         for r in self._own.values():
-            groups.append((r.term.kind, r.tier, r.entry, r.score, 1))
             kind_tier = (r.term.kind, r.tier)
             counts[kind_tier] = counts.get(kind_tier, 0) + 1
-        self._groups = groups
+            if unreviewed_entry(r.tier, r.entry):
+                unreviewed += 1
         self._counts = Counter(counts)
-        self._missing = missing
-        self._low = (low, low_key)
+        self._missing = totals.missing
+        self._low = totals.low
+        self._unreviewed = unreviewed
 
     def groups(self) -> list[tuple[str, str, Entry | None, float, int]]:
-        """(kind, tier, entry, score, number of terms) per shared outcome used and per own resolution
-        (made on first call, then kept; do not change the list)."""
+        """(kind, tier, entry, score, number of terms) per shared outcome used (in the order of their first
+        terms), per shared estimate and per own resolution (made on first call, then kept; do not change
+        the list)."""
         if self._groups is None:
-            self._scan()
-        assert self._groups is not None
+            shared = self._shared
+            groups = [shared[key].group + (n,) for key, n in self._keys_used().items() if key >= 0]
+            for e, n in Counter(self._estimated.values()).items():
+                groups.append((e.kind, e.tier, e.entry, e.score, n))
+            for r in self._own.values():
+                groups.append((r.term.kind, r.tier, r.entry, r.score, 1))
+            self._groups = groups
         return self._groups
 
     def tier_counts(self) -> Counter[tuple[str, str]]:
@@ -409,6 +464,13 @@ class TermTable(Sequence[Resolution]):
         assert self._counts is not None
         return self._counts
 
+    def unreviewed(self) -> int:
+        """Number of terms resolved from set entries the set marks ``estimated: true``."""
+        if self._unreviewed is None:
+            self._scan()
+        assert self._unreviewed is not None
+        return self._unreviewed
+
     def lowest(self) -> Resolution | None:
         """The resolution with the lowest score, the first in term order on ties; None without terms."""
         if not self._keys:
@@ -416,13 +478,13 @@ class TermTable(Sequence[Resolution]):
         if self._low is None:
             self._scan()
         assert self._low is not None
-        low, low_key = self._low
+        low, low_position = self._low
         others = list(self._own.items()) + list(self._estimated.items())
         if others:
             low = min(low, min(r.score for _, r in others))
         candidates = [i for i, r in others if r.score == low]
-        if low_key is not None and self._shared[low_key].score == low:
-            candidates.append(self._keys.index(low_key))
+        if low_position is not None and self._shared[self._keys[low_position]].score == low:
+            candidates.append(low_position)
         return self._item(min(candidates))
 
     def positions(self, tiers: Iterable[str] | None = None) -> list[int]:
@@ -431,11 +493,10 @@ class TermTable(Sequence[Resolution]):
         if tiers is None:
             return list(range(n))
         wanted = frozenset(tiers)
-        groups = self.groups()
-        hits = sum(1 for g in groups if g[1] in wanted)
+        hits = sum(count for (_, tier), count in self.tier_counts().items() if tier in wanted)
         if hits == 0:
             return []
-        if hits == len(groups):
+        if hits == n:
             return list(range(n))
         shared = self._shared
         keep = {k for k in self._keys_used() if k >= 0 and shared[k].tier in wanted}

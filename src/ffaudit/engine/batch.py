@@ -56,7 +56,7 @@ from ffaudit.resolve.driver import Resolution, SharedEstimate
 from ffaudit.resolve.estimate import MoleculeTypes
 from ffaudit.terms import Term
 from ffaudit.terms_batch import NO_QUALIFIER, KindTerms, enumerate_batch
-from ffaudit.termtable import ESTIMATED, OWN, AtomRows, SharedOutcome, TermTable
+from ffaudit.termtable import ESTIMATED, OWN, AtomRows, SharedOutcome, SharedTotals, TermTable
 
 IntArray = NDArray[np.int64]
 
@@ -94,6 +94,8 @@ class _KindRows:
     singles: list[int]  # rows of the terms resolved one by one (estimates, unclassified atoms), in order
     single_atoms: list[list[int]]  # their atoms
     single_bounds: list[int]  # the singles of molecule m: single_bounds[m] .. single_bounds[m + 1]
+    molecule: IntArray  # the molecule of each row
+    dense: IntArray  # the dense number of each row's key (FastAuditor._dense)
 
 
 @dataclass
@@ -105,6 +107,7 @@ class _Done:
     atom_rule: list[int]
     rows: list[_KindRows]
     fragments: list[int]
+    totals: list[SharedTotals]  # per molecule: the totals of its terms with a shared outcome
 
 
 @dataclass
@@ -156,6 +159,12 @@ class FastAuditor:
         self._bond_codes = BondCodes()
         self._key_info: dict[int, _KeyInfo] = {}
         self._outcomes: dict[int, SharedOutcome | None] = {}
+        # every key gets a dense number, for the per-batch totals; per number what the totals read
+        self._dense: dict[int, int] = {}
+        self._kind_tiers: dict[tuple[str, str], int] = {}
+        self._dense_facts: list[tuple[int, float, bool, bool, bool]] = []  # see _number
+        self._dense_arrays: tuple[Any, ...] | None = None
+        self._missing_of: dict[int, tuple[str, tuple[str, ...]]] = {}
         self._assignments: dict[tuple[int, int], Assignment] = {}
         self._findings: dict[tuple[int, str], Finding] = {}
         self._estimate = "estimate" in context.resolver.tiers
@@ -300,7 +309,12 @@ class FastAuditor:
         kinds = enumerate_batch(graph, rank, self.context.pset.header, self.context.kinds)
         rows = [self._rows(kt, graph, batch.n_mols) for kt in kinds]
         return _Done(
-            batch, graph, atom_rule.tolist(), rows, batch.fragments_per_molecule().tolist()
+            batch,
+            graph,
+            atom_rule.tolist(),
+            rows,
+            batch.fragments_per_molecule().tolist(),
+            self._totals(rows, batch.n_mols),
         )
 
     def _rows(self, kt: KindTerms, graph: HydrogenGraph, n_mols: int) -> _KindRows:
@@ -309,7 +323,10 @@ class FastAuditor:
         bounds = kt.bounds(n_mols)
         if n == 0:
             none = [0] * (n_mols + 1)
-            return _KindRows(kt.kind, bounds.tolist(), np.zeros((0, 1), np.int64), [], [], [], none)
+            empty = np.zeros(0, np.int64)
+            return _KindRows(
+                kt.kind, bounds.tolist(), np.zeros((0, 1), np.int64), [], [], [], none, empty, empty
+            )
         local = kt.atoms - graph.starts[kt.molecule][:, None]
         bits = self._rank_bits
         key = np.full(n, kind_index, dtype=np.int64)
@@ -318,12 +335,14 @@ class FastAuditor:
             key = (key << bits) | column
         key = (key << 8) | (kt.code + 1)
         key = (key << 2) | (kt.ring + 1)
-        distinct, first = np.unique(key, return_index=True)
+        distinct, first, inverse = np.unique(key, return_index=True, return_inverse=True)
         # each new tuple is resolved once, for the whole batch (outcomes depend on the tuple alone); None
         # marks the tuples whose terms are resolved one by one
         outcomes = self._outcomes
         resolver = self.context.resolver
         per_term: list[bool] = []
+        dense = self._dense
+        numbers: list[int] = []
         for k, row in zip(distinct.tolist(), first.tolist(), strict=True):
             info = self._key_info.get(k)
             if info is None:
@@ -338,15 +357,115 @@ class FastAuditor:
                     missing = found.tier == "missing" and self._estimate
                     outcomes[k] = None if missing else SharedOutcome.of(found)
             per_term.append(outcomes[k] is None)
+            number = dense.get(k)
+            numbers.append(self._number(k, outcomes[k]) if number is None else number)
         if any(per_term):
-            rows = np.flatnonzero(np.array(per_term, dtype=bool)[np.searchsorted(distinct, key)])
+            rows = np.flatnonzero(np.array(per_term, dtype=bool)[inverse])
             singles, single_atoms = rows.tolist(), local[rows].tolist()
             single_bounds = np.searchsorted(rows, bounds).tolist()
         else:
             singles, single_atoms, single_bounds = [], [], [0] * (n_mols + 1)
         return _KindRows(
-            kt.kind, bounds.tolist(), local, key.tolist(), singles, single_atoms, single_bounds
+            kt.kind,
+            bounds.tolist(),
+            local,
+            key.tolist(),
+            singles,
+            single_atoms,
+            single_bounds,
+            kt.molecule,
+            np.array(numbers, dtype=np.int64)[inverse.reshape(-1)],
         )
+
+    def _number(self, key: int, outcome: SharedOutcome | None) -> int:
+        """Give ``key`` its dense number and note what the totals read of its outcome: (kind-tier number,
+        score, missing, unreviewed, resolved term by term)."""
+        number = len(self._dense_facts)
+        self._dense[key] = number
+        if outcome is None:
+            self._dense_facts.append((0, 0.0, False, False, True))
+        else:
+            kt = self._kind_tiers.setdefault(outcome.kind_tier, len(self._kind_tiers))
+            missing = outcome.tier == "missing"
+            if missing:
+                self._missing_of[number] = (outcome.kind, outcome.classes)
+            self._dense_facts.append((kt, outcome.score, missing, outcome.unreviewed, False))
+        self._dense_arrays = None
+        return number
+
+    def _totals(self, rows: list[_KindRows], n_mols: int) -> list[SharedTotals]:
+        """Per molecule of the batch, the totals of its terms that have a shared outcome (the terms resolved
+        one by one are left out): counted for the whole batch with numpy, equal to what
+        :class:`TermTable` counts term by term."""
+        molecules, numbers, positions = [], [], []
+        offset = np.zeros(n_mols, np.int64)  # terms of each molecule in the kinds before
+        for r in rows:
+            if not len(r.dense):
+                continue
+            bounds = np.asarray(r.bounds, np.int64)
+            molecules.append(r.molecule)
+            numbers.append(r.dense)
+            positions.append(np.arange(len(r.dense)) - bounds[r.molecule] + offset[r.molecule])
+            offset += np.diff(bounds)
+        empty = SharedTotals({}, 0, [], (float("inf"), None))
+        if not molecules:
+            return [empty] * n_mols
+        if self._dense_arrays is None:
+            columns = list(zip(*self._dense_facts, strict=True))
+            self._dense_arrays = (
+                np.array(columns[0], np.int64),
+                np.array(columns[1], np.float64),
+                np.array(columns[2], bool),
+                np.array(columns[3], bool),
+                np.array(columns[4], bool),
+            )
+        kt_of, score_of, missing_of, unreviewed_of, single_of = self._dense_arrays
+        mol = np.concatenate(molecules)
+        number = np.concatenate(numbers)
+        position = np.concatenate(positions)
+        keep = ~single_of[number]
+        mol, number, position = mol[keep], number[keep], position[keep]
+        if not len(mol):
+            return [empty] * n_mols
+        kind_tiers = list(self._kind_tiers)
+        n_kt = len(kind_tiers)
+        table = np.bincount(mol * n_kt + kt_of[number], minlength=n_mols * n_kt)
+        counts: list[dict[tuple[str, str], int]] = [{} for _ in range(n_mols)]
+        cells = np.flatnonzero(table)
+        for cell, n in zip(cells.tolist(), table[cells].tolist(), strict=True):
+            counts[cell // n_kt][kind_tiers[cell % n_kt]] = n
+        # the lowest score of each molecule, and the first term that has it
+        score = score_of[number]
+        order = np.lexsort((position, score, mol))
+        first = order[np.flatnonzero(np.r_[True, mol[order][1:] != mol[order][:-1]])]
+        low: list[tuple[float, int | None]] = [(float("inf"), None)] * n_mols
+        for m, s, p in zip(
+            mol[first].tolist(), score[first].tolist(), position[first].tolist(), strict=True
+        ):
+            low[m] = (s, p)
+        unreviewed = [0] * n_mols
+        flagged = unreviewed_of[number]
+        if flagged.any():
+            unreviewed = np.bincount(mol[flagged], minlength=n_mols).tolist()
+        missing: list[list[tuple[str, tuple[str, ...], int]]] = [[] for _ in range(n_mols)]
+        absent = missing_of[number]
+        if absent.any():
+            mm, mn, mp = mol[absent], number[absent], position[absent]
+            _, at, n_terms = np.unique(
+                mm * len(single_of) + mn, return_index=True, return_counts=True
+            )
+            by_first = np.lexsort((mp[at], mm[at]))  # each molecule's tuples in order of first term
+            for m, d, n in zip(
+                mm[at][by_first].tolist(),
+                mn[at][by_first].tolist(),
+                n_terms[by_first].tolist(),
+                strict=True,
+            ):
+                kind, classes = self._missing_of[d]
+                missing[m].append((kind, classes, n))
+        return [
+            SharedTotals(counts[m], unreviewed[m], missing[m], low[m]) for m in range(n_mols)
+        ]
 
     def _describe(self, kt: KindTerms, row: int) -> _KeyInfo:
         ranks = kt.ranks[row].tolist()
@@ -443,6 +562,7 @@ class FastAuditor:
             cast("dict[int, SharedOutcome]", outcomes),
             own,
             estimated,
+            done.totals[m],
         )
         proposed: tuple[ProposedClass, ...] = ()
         if findings:  # only unclassified-atom findings here
