@@ -22,6 +22,7 @@ import pytest
 from rdkit import Chem, RDConfig, rdBase
 
 from ffaudit.audit import AuditContext, MoleculeAudit
+from ffaudit.engine import batch as batch_module
 from ffaudit.engine import work
 from ffaudit.engine.base import ChunkOptions
 from ffaudit.engine.batch import FastAuditor, audit_records
@@ -151,6 +152,19 @@ def test_set_tiers_only_identical(default_set: ParameterSet, nci_records: list[R
         )
     ]
     assert len(shared_missing) > 100  # the per-batch totals of missing outcomes are exercised
+
+
+def test_lowest_score_without_packing_identical(
+    default_set: ParameterSet,
+    nci_records: list[Record],
+    nci_reference: list[MoleculeAudit],
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    # a batch with too many terms to pack (molecule, score rank, position) into one integer finds each
+    # molecule's lowest score by a three-key sort instead; forced here for every batch
+    monkeypatch.setattr(batch_module, "_PACK_BITS", 0)
+    got = list(FastAuditor(AuditContext(default_set)).audit_records(nci_records[:400]))
+    _assert_identical(nci_reference[:400], got, default_set, dict_every=1)
 
 
 def test_engine_call_matches_reference(

@@ -72,6 +72,10 @@ LAYOUTS = ("auto", "explicit")
 _SYMBOLS = tuple(Chem.GetPeriodicTable().GetElementSymbol(z) for z in range(119))
 
 
+_PACK_BITS = 62
+"""Bits of the int64 into which :meth:`FastAuditor._totals` packs (molecule, score rank, term position)."""
+
+
 class _UseReference(Exception):
     """This record goes the reference's way."""
 
@@ -164,6 +168,7 @@ class FastAuditor:
         self._kind_tiers: dict[tuple[str, str], int] = {}
         self._dense_facts: list[tuple[int, float, bool, bool, bool]] = []  # see _number
         self._dense_arrays: tuple[Any, ...] | None = None
+        self._scores: list[float] = []  # the distinct scores of the shared outcomes, ascending
         self._missing_of: dict[int, tuple[str, tuple[str, ...]]] = {}
         self._assignments: dict[tuple[int, int], Assignment] = {}
         self._findings: dict[tuple[int, str], Finding] = {}
@@ -412,14 +417,16 @@ class FastAuditor:
             return [empty] * n_mols
         if self._dense_arrays is None:
             columns = list(zip(*self._dense_facts, strict=True))
+            distinct, rank = np.unique(np.array(columns[1], np.float64), return_inverse=True)
+            self._scores = distinct.tolist()
             self._dense_arrays = (
                 np.array(columns[0], np.int64),
-                np.array(columns[1], np.float64),
+                rank.reshape(-1).astype(np.int64),
                 np.array(columns[2], bool),
                 np.array(columns[3], bool),
                 np.array(columns[4], bool),
             )
-        kt_of, score_of, missing_of, unreviewed_of, single_of = self._dense_arrays
+        kt_of, rank_of, missing_of, unreviewed_of, single_of = self._dense_arrays
         mol = np.concatenate(molecules)
         number = np.concatenate(numbers)
         position = np.concatenate(positions)
@@ -434,15 +441,28 @@ class FastAuditor:
         cells = np.flatnonzero(table)
         for cell, n in zip(cells.tolist(), table[cells].tolist(), strict=True):
             counts[cell // n_kt][kind_tiers[cell % n_kt]] = n
-        # the lowest score of each molecule, and the first term that has it
-        score = score_of[number]
-        order = np.lexsort((position, score, mol))
-        first = order[np.flatnonzero(np.r_[True, mol[order][1:] != mol[order][:-1]])]
+        # the lowest score of each molecule, and the first term that has it: the smallest (molecule, score
+        # rank, position), packed into one integer per term and sorted once
+        rank = rank_of[number]
+        p_bits = max(1, int(position.max()).bit_length())
+        r_bits = max(1, len(self._scores).bit_length())
         low: list[tuple[float, int | None]] = [(float("inf"), None)] * n_mols
-        for m, s, p in zip(
-            mol[first].tolist(), score[first].tolist(), position[first].tolist(), strict=True
-        ):
-            low[m] = (s, p)
+        scores = self._scores
+        if p_bits + r_bits + max(1, n_mols.bit_length()) <= _PACK_BITS:
+            packed = np.sort((mol << (r_bits + p_bits)) | (rank << p_bits) | position)
+            head = packed >> (r_bits + p_bits)
+            first = packed[np.flatnonzero(np.r_[True, head[1:] != head[:-1]])].tolist()
+            r_mask, p_mask = (1 << r_bits) - 1, (1 << p_bits) - 1
+            for value in first:
+                m, r, p = value >> (r_bits + p_bits), (value >> p_bits) & r_mask, value & p_mask
+                low[m] = (scores[r], p)
+        else:  # too many terms or molecules to pack
+            order = np.lexsort((position, rank, mol))
+            at = order[np.flatnonzero(np.r_[True, mol[order][1:] != mol[order][:-1]])]
+            for m, r, p in zip(
+                mol[at].tolist(), rank[at].tolist(), position[at].tolist(), strict=True
+            ):
+                low[m] = (scores[r], p)
         unreviewed = [0] * n_mols
         flagged = unreviewed_of[number]
         if flagged.any():
