@@ -53,13 +53,14 @@ def parse_smiles(text: str) -> ParseResult:
     """
     if not text:
         return ParseResult(None, "empty SMILES")
-    for column, char in enumerate(text, start=1):
-        if not (char.isascii() and char.isprintable()):
-            return ParseResult(
-                None,
-                f"SMILES {_preview(text)} has character {char!r} at column {column}; "
-                "SMILES are printable ASCII (is this a binary or mis-encoded file?)",
-            )
+    if not (text.isascii() and text.isprintable()):  # find the first offending character
+        for column, char in enumerate(text, start=1):
+            if not (char.isascii() and char.isprintable()):
+                return ParseResult(
+                    None,
+                    f"SMILES {_preview(text)} has character {char!r} at column {column}; "
+                    "SMILES are printable ASCII (is this a binary or mis-encoded file?)",
+                )
     return parse_then_classify(
         lambda sanitize: Chem.MolFromSmiles(text, sanitize=sanitize), what="SMILES"
     )
