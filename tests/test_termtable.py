@@ -9,8 +9,10 @@ are checked against the reference path in tests/test_fast_path.py.
 
 from __future__ import annotations
 
+import itertools
 import pickle
 from collections import Counter
+from collections.abc import Sequence
 
 import numpy as np
 import pytest
@@ -31,6 +33,7 @@ from ffaudit.termtable import (
     OWN,
     PROBLEM_TIERS,
     AtomRows,
+    KeyRows,
     SharedOutcome,
     TermTable,
     named_classes,
@@ -99,12 +102,14 @@ def tables(draw: st.DrawFn) -> tuple[TermTable, tuple[Resolution, ...]]:
     outcomes = dict(enumerate(draw(outcomes_st)))
     n = draw(st.integers(0, 30))
     keys: list[int] = []
+    raw: list[int] = []  # the key drawn for each term, before OWN or ESTIMATED replaced it
     atoms: list[tuple[int, ...] | None] = []
     own: dict[int, Resolution] = {}
     estimated: dict[int, SharedEstimate] = {}
     expected: list[Resolution] = []
     for i in range(n):
         key = draw(st.integers(0, len(outcomes) - 1))
+        raw.append(key)
         kind = outcomes[key].kind
         a = tuple(draw(st.lists(st.integers(0, 40), min_size=SIZES[kind], max_size=SIZES[kind])))
         pick = draw(st.integers(0, 4))
@@ -156,7 +161,15 @@ def tables(draw: st.DrawFn) -> tuple[TermTable, tuple[Resolution, ...]]:
                 for i, a in enumerate(atoms)
             ]
         )
-    return TermTable(atoms, keys, outcomes, own, estimated), tuple(expected)
+    stored: Sequence[int] = keys
+    if draw(st.booleans()):  # the fast path's storage: array slices and the replaced positions
+        cut = sorted(draw(st.lists(st.integers(0, len(raw)), max_size=3)))
+        bounds = [0, *cut, len(raw)]
+        stored = KeyRows(
+            [np.array(raw[a:b], dtype=np.int64) for a, b in itertools.pairwise(bounds)],
+            {i: k for i, k in enumerate(keys) if k in (OWN, ESTIMATED)},
+        )
+    return TermTable(atoms, stored, outcomes, own, estimated), tuple(expected)
 
 
 def _as_rows(atoms: list[tuple[int, ...]]) -> AtomRows:
@@ -194,6 +207,35 @@ def test_atom_rows_answer_as_the_list_of_tuples(
     lo = data.draw(st.integers(0, len(atoms)))
     assert rows[lo:] == atoms[lo:]
     assert rows.materialise() == atoms and list(rows) == atoms
+
+
+@settings(max_examples=100, deadline=None)
+@given(st.lists(st.integers(0, 10**15), max_size=30), st.data())
+def test_key_rows_answer_as_the_list_of_keys(raw: list[int], data: st.DataObject) -> None:
+    replaced = {
+        i: data.draw(st.sampled_from([OWN, ESTIMATED]))
+        for i in data.draw(st.sets(st.integers(0, max(0, len(raw) - 1)))) if i < len(raw)
+    }
+    expected = [replaced.get(i, k) for i, k in enumerate(raw)]
+    cut = sorted(data.draw(st.lists(st.integers(0, len(raw)), max_size=4)))
+    bounds = [0, *cut, len(raw)]
+    parts = [np.array(raw[a:b], dtype=np.int64) for a, b in itertools.pairwise(bounds)]
+
+    def rows() -> KeyRows:
+        return KeyRows(parts, replaced)
+
+    assert len(rows()) == len(expected)
+    for i in range(-len(expected), len(expected)):  # one key at a time, before anything is converted
+        assert rows()[i] == expected[i] and type(rows()[i]) is int
+    for bad in (len(expected), -len(expected) - 1):
+        with pytest.raises(IndexError):
+            rows()[bad]
+    lo = data.draw(st.integers(0, len(expected)))
+    assert rows()[lo:] == expected[lo:]
+    assert list(rows()) == expected and rows().materialise() == expected
+    if expected:
+        value = data.draw(st.sampled_from(expected))
+        assert rows().index(value) == expected.index(value)
 
 
 @settings(max_examples=150, deadline=None)

@@ -286,6 +286,72 @@ class AtomRows(Sequence[tuple[int, ...]]):
         return tuple(self._parts[part][index - start].tolist())
 
 
+class KeyRows(Sequence[int]):
+    """The keys of a molecule's terms, kept as slices of integer arrays (one per term kind, in term order)
+    plus the positions whose key was replaced (by :data:`OWN` or :data:`ESTIMATED`), and turned into a
+    list of ints only when asked: a run that lists no terms never makes it. :meth:`materialise` converts
+    all at once (and keeps the list)."""
+
+    __slots__ = ("_parts", "_ends", "_replaced", "_list")
+
+    def __init__(self, parts: Sequence[Any], replaced: Mapping[int, int]) -> None:
+        self._parts = [p for p in parts if len(p)]
+        ends: list[int] = []
+        total = 0
+        for p in self._parts:
+            total += len(p)
+            ends.append(total)
+        self._ends = ends
+        self._replaced = replaced
+        self._list: list[int] | None = None
+
+    def materialise(self) -> list[int]:
+        """Every key, in term order (made on first call, then kept)."""
+        if self._list is None:
+            out: list[int] = []
+            for p in self._parts:
+                out += p.tolist()
+            for i, key in self._replaced.items():
+                out[i] = key
+            self._list = out
+        return self._list
+
+    def __len__(self) -> int:
+        return self._ends[-1] if self._ends else 0
+
+    @overload
+    def __getitem__(self, index: int) -> int: ...
+
+    @overload
+    def __getitem__(self, index: slice) -> list[int]: ...
+
+    def __getitem__(self, index: int | slice) -> int | list[int]:
+        if self._list is not None or isinstance(index, slice):
+            return self.materialise()[index]
+        if index < 0:
+            index += len(self)
+        if not 0 <= index < len(self):
+            raise IndexError("term index out of range")
+        key = self._replaced.get(index)
+        if key is not None:
+            return key
+        part = bisect.bisect_right(self._ends, index)
+        start = self._ends[part - 1] if part else 0
+        return int(self._parts[part][index - start])
+
+    def __iter__(self) -> Iterator[int]:
+        return iter(self.materialise())
+
+    def index(self, value: Any, start: int = 0, stop: int | None = None) -> int:
+        keys = self.materialise()
+        return keys.index(value, start) if stop is None else keys.index(value, start, stop)
+
+
+def _key_list(keys: Sequence[int]) -> Sequence[int]:
+    """``keys`` as a plain sequence for loops over many terms."""
+    return keys.materialise() if isinstance(keys, KeyRows) else keys
+
+
 def _atom_list(atoms: Sequence[tuple[int, ...] | None]) -> Sequence[tuple[int, ...] | None]:
     """``atoms`` as a plain sequence for loops over many terms."""
     return atoms.materialise() if isinstance(atoms, AtomRows) else atoms
@@ -357,6 +423,7 @@ class TermTable(Sequence[Resolution]):
         """Every resolution, in term order (built on first call, then kept)."""
         if self._items is None:
             _atom_list(self._atoms)  # one conversion instead of one per term
+            _key_list(self._keys)
             self._items = tuple(self._item(i) for i in range(len(self._keys)))
         return self._items
 
@@ -395,7 +462,7 @@ class TermTable(Sequence[Resolution]):
     def _keys_used(self) -> Counter[int]:
         """Terms per key, in the order of each key's first term (made on first call, then kept)."""
         if self._key_counts is None:
-            self._key_counts = Counter(self._keys)
+            self._key_counts = Counter(_key_list(self._keys))
         return self._key_counts
 
     def _shared_totals(self) -> SharedTotals:
@@ -503,9 +570,9 @@ class TermTable(Sequence[Resolution]):
         if "estimate" in wanted:
             keep.add(ESTIMATED)
         if not self._own:
-            return [i for i, k in enumerate(self._keys) if k in keep]
+            return [i for i, k in enumerate(_key_list(self._keys)) if k in keep]
         own = {i for i, r in self._own.items() if r.tier in wanted}
-        return [i for i, k in enumerate(self._keys) if k in keep or i in own]
+        return [i for i, k in enumerate(_key_list(self._keys)) if k in keep or i in own]
 
     def picked(self, positions: Iterable[int]) -> list[Resolution]:
         """The resolutions at ``positions`` (built for these terms only)."""
@@ -541,7 +608,7 @@ class TermTable(Sequence[Resolution]):
         """The shared output of every key used at ``positions`` (made once per key and set)."""
         if not positions:
             return {}
-        atoms, keys, shared = _atom_list(self._atoms), self._keys, self._shared
+        atoms, keys, shared = _atom_list(self._atoms), _key_list(self._keys), self._shared
         out: dict[int, tuple[dict[str, Any], str, str]] = {}
         for i in positions:
             key = keys[i]
@@ -560,7 +627,7 @@ class TermTable(Sequence[Resolution]):
         out: list[tuple[SharedOutcome | SharedEstimate | Resolution, tuple[int, ...]]] = []
         if not positions:
             return out
-        atoms, keys, shared, own = _atom_list(self._atoms), self._keys, self._shared, self._own
+        atoms, keys, shared, own = _atom_list(self._atoms), _key_list(self._keys), self._shared, self._own
         for i in positions:
             key = keys[i]
             if key == OWN:
@@ -577,7 +644,7 @@ class TermTable(Sequence[Resolution]):
         if not positions:
             return []
         outputs = self._outputs(pset, positions)
-        atoms, keys, shared, own = _atom_list(self._atoms), self._keys, self._shared, self._own
+        atoms, keys, shared, own = _atom_list(self._atoms), _key_list(self._keys), self._shared, self._own
         out: list[dict[str, Any]] = []
         append = out.append
         for i in positions:
@@ -607,7 +674,7 @@ class TermTable(Sequence[Resolution]):
         after = {k: v[2] for k, v in outputs.items()}
         atoms, keys, own, estimated = (
             _atom_list(self._atoms),
-            self._keys,
+            _key_list(self._keys),
             self._own,
             self._estimated,
         )

@@ -56,7 +56,15 @@ from ffaudit.resolve.driver import Resolution, SharedEstimate
 from ffaudit.resolve.estimate import MoleculeTypes
 from ffaudit.terms import Term
 from ffaudit.terms_batch import NO_QUALIFIER, KindTerms, enumerate_batch
-from ffaudit.termtable import ESTIMATED, OWN, AtomRows, SharedOutcome, SharedTotals, TermTable
+from ffaudit.termtable import (
+    ESTIMATED,
+    OWN,
+    AtomRows,
+    KeyRows,
+    SharedOutcome,
+    SharedTotals,
+    TermTable,
+)
 
 IntArray = NDArray[np.int64]
 
@@ -94,8 +102,9 @@ class _KindRows:
     kind: str
     bounds: list[int]  # the rows of molecule m: bounds[m] .. bounds[m + 1]
     atoms: IntArray  # (n_terms, atoms per term): each molecule's own atom indices
-    keys: list[int]
+    keys: IntArray  # the key of each row
     singles: list[int]  # rows of the terms resolved one by one (estimates, unclassified atoms), in order
+    single_keys: list[int]  # their keys
     single_atoms: list[list[int]]  # their atoms
     single_bounds: list[int]  # the singles of molecule m: single_bounds[m] .. single_bounds[m + 1]
     molecule: IntArray  # the molecule of each row
@@ -330,7 +339,16 @@ class FastAuditor:
             none = [0] * (n_mols + 1)
             empty = np.zeros(0, np.int64)
             return _KindRows(
-                kt.kind, bounds.tolist(), np.zeros((0, 1), np.int64), [], [], [], none, empty, empty
+                kt.kind,
+                bounds.tolist(),
+                np.zeros((0, 1), np.int64),
+                empty,
+                [],
+                [],
+                [],
+                none,
+                empty,
+                empty,
             )
         local = kt.atoms - graph.starts[kt.molecule][:, None]
         bits = self._rank_bits
@@ -367,15 +385,18 @@ class FastAuditor:
         if any(per_term):
             rows = np.flatnonzero(np.array(per_term, dtype=bool)[inverse])
             singles, single_atoms = rows.tolist(), local[rows].tolist()
+            single_keys = key[rows].tolist()
             single_bounds = np.searchsorted(rows, bounds).tolist()
         else:
             singles, single_atoms, single_bounds = [], [], [0] * (n_mols + 1)
+            single_keys = []
         return _KindRows(
             kt.kind,
             bounds.tolist(),
             local,
-            key.tolist(),
+            key,
             singles,
+            single_keys,
             single_atoms,
             single_bounds,
             kt.molecule,
@@ -545,24 +566,30 @@ class FastAuditor:
         outcomes = self._outcomes
         infos = self._key_info
         atom_parts: list[IntArray] = []
-        keys_all: list[int] = []
+        key_parts: list[IntArray] = []
+        replaced: dict[int, int] = {}
+        n_terms = 0
         own: dict[int, Resolution] = {}
         estimated: dict[int, SharedEstimate] = {}
         for rows in done.rows:
             start, end = rows.bounds[m], rows.bounds[m + 1]
             if start == end:
                 continue
-            offset = len(keys_all) - start  # term row r of the batch is term offset + r of this molecule
+            offset = n_terms - start  # term row r of the batch is term offset + r of this molecule
+            n_terms += end - start
             atom_parts.append(rows.atoms[start:end])
-            keys_all += rows.keys[start:end]
+            key_parts.append(rows.keys[start:end])
             first, last = rows.single_bounds[m], rows.single_bounds[m + 1]
             if first == last:
                 continue
-            for row, atoms in zip(
-                rows.singles[first:last], rows.single_atoms[first:last], strict=True
+            for row, key, atoms in zip(
+                rows.singles[first:last],
+                rows.single_keys[first:last],
+                rows.single_atoms[first:last],
+                strict=True,
             ):
                 i = offset + row
-                info = infos[keys_all[i]]
+                info = infos[key]
                 term = Term(rows.kind, tuple(atoms), info.classes, info.order, info.ring)
                 found = (
                     resolver.estimate(term, cast("MoleculeTypes", types()))
@@ -571,14 +598,14 @@ class FastAuditor:
                 )
                 if isinstance(found, SharedEstimate):
                     estimated[i] = found
-                    keys_all[i] = ESTIMATED
+                    replaced[i] = ESTIMATED
                 else:
                     own[i] = found
-                    keys_all[i] = OWN
-        # every key left in keys_all has a shared outcome (the others were replaced by OWN or ESTIMATED)
+                    replaced[i] = OWN
+        # every key not replaced by OWN or ESTIMATED has a shared outcome
         resolved = TermTable(
             AtomRows(atom_parts),
-            keys_all,
+            KeyRows(key_parts, replaced),
             cast("dict[int, SharedOutcome]", outcomes),
             own,
             estimated,
