@@ -36,6 +36,7 @@ from numpy.typing import NDArray
 from rdkit import Chem, rdBase
 
 from ffaudit.audit import AuditContext, MoleculeAudit, assemble_audit, with_proposals
+from ffaudit.engine.keystore import KeyStore
 from ffaudit.findings import Finding
 from ffaudit.molbatch import (
     BondCodes,
@@ -108,7 +109,7 @@ class _KindRows:
     single_atoms: list[list[int]]  # their atoms
     single_bounds: list[int]  # the singles of molecule m: single_bounds[m] .. single_bounds[m + 1]
     molecule: IntArray  # the molecule of each row
-    dense: IntArray  # the dense number of each row's key (FastAuditor._dense)
+    dense: IntArray  # the dense number of each row's key (the auditor's KeyStore)
 
 
 @dataclass
@@ -172,13 +173,7 @@ class FastAuditor:
         self._bond_codes = BondCodes()
         self._key_info: dict[int, _KeyInfo] = {}
         self._outcomes: dict[int, SharedOutcome | None] = {}
-        # every key gets a dense number, for the per-batch totals; per number what the totals read
-        self._dense: dict[int, int] = {}
-        self._kind_tiers: dict[tuple[str, str], int] = {}
-        self._dense_facts: list[tuple[int, float, bool, bool, bool]] = []  # see _number
-        self._dense_arrays: tuple[Any, ...] | None = None
-        self._scores: list[float] = []  # the distinct scores of the shared outcomes, ascending
-        self._missing_of: dict[int, tuple[str, tuple[str, ...]]] = {}
+        self._store = KeyStore()  # every key's dense number and what the per-batch totals read of it
         self._assignments: dict[tuple[int, int], Assignment] = {}
         self._findings: dict[tuple[int, str], Finding] = {}
         self._estimate = "estimate" in context.resolver.tiers
@@ -361,29 +356,20 @@ class FastAuditor:
         distinct, first, inverse = np.unique(key, return_index=True, return_inverse=True)
         # each new tuple is resolved once, for the whole batch (outcomes depend on the tuple alone); None
         # marks the tuples whose terms are resolved one by one
-        outcomes = self._outcomes
-        resolver = self.context.resolver
-        per_term: list[bool] = []
-        dense = self._dense
-        numbers: list[int] = []
-        for k, row in zip(distinct.tolist(), first.tolist(), strict=True):
-            info = self._key_info.get(k)
-            if info is None:
-                info = self._key_info[k] = self._describe(kt, row)
-            if k not in outcomes:
-                if info.unassigned:  # the reference never shares those: the reason names the atoms
-                    outcomes[k] = None
-                else:
-                    atoms = tuple(local[row].tolist())
-                    term = Term(kt.kind, atoms, info.classes, info.order, info.ring)
-                    found = resolver.resolve(term, None)
-                    missing = found.tier == "missing" and self._estimate
-                    outcomes[k] = None if missing else SharedOutcome.of(found)
-            per_term.append(outcomes[k] is None)
-            number = dense.get(k)
-            numbers.append(self._number(k, outcomes[k]) if number is None else number)
-        if any(per_term):
-            rows = np.flatnonzero(np.array(per_term, dtype=bool)[inverse])
+        store = self._store
+        numbers = store.numbers(distinct)
+        new = np.flatnonzero(numbers < 0)
+        if len(new):
+            keys = distinct[new].tolist()
+            found_outcomes = [
+                self._outcome(kt, local, k, row)
+                for k, row in zip(keys, first[new].tolist(), strict=True)
+            ]
+            numbers[new] = store.add(keys, found_outcomes)
+        inverse = inverse.reshape(-1)
+        single = store.columns()[4][numbers]
+        if single.any():
+            rows = np.flatnonzero(single[inverse])
             singles, single_atoms = rows.tolist(), local[rows].tolist()
             single_keys = key[rows].tolist()
             single_bounds = np.searchsorted(rows, bounds).tolist()
@@ -400,24 +386,25 @@ class FastAuditor:
             single_atoms,
             single_bounds,
             kt.molecule,
-            np.array(numbers, dtype=np.int64)[inverse.reshape(-1)],
+            numbers[inverse],
         )
 
-    def _number(self, key: int, outcome: SharedOutcome | None) -> int:
-        """Give ``key`` its dense number and note what the totals read of its outcome: (kind-tier number,
-        score, missing, unreviewed, resolved term by term)."""
-        number = len(self._dense_facts)
-        self._dense[key] = number
-        if outcome is None:
-            self._dense_facts.append((0, 0.0, False, False, True))
-        else:
-            kt = self._kind_tiers.setdefault(outcome.kind_tier, len(self._kind_tiers))
-            missing = outcome.tier == "missing"
-            if missing:
-                self._missing_of[number] = (outcome.kind, outcome.classes)
-            self._dense_facts.append((kt, outcome.score, missing, outcome.unreviewed, False))
-        self._dense_arrays = None
-        return number
+    def _outcome(self, kt: KindTerms, local: IntArray, key: int, row: int) -> SharedOutcome | None:
+        """The shared outcome of a key not seen before (resolved on the terms of ``row``), or None when its
+        terms are resolved one by one (an unclassified atom, or a missing tuple to estimate term by
+        term); noted in ``_key_info`` and ``_outcomes``."""
+        info = self._key_info.get(key)
+        if info is None:
+            info = self._key_info[key] = self._describe(kt, row)
+        outcome: SharedOutcome | None = None
+        if not info.unassigned:  # the reference never shares those: the reason names the atoms
+            atoms = tuple(local[row].tolist())
+            term = Term(kt.kind, atoms, info.classes, info.order, info.ring)
+            found = self.context.resolver.resolve(term, None)
+            if not (found.tier == "missing" and self._estimate):
+                outcome = SharedOutcome.of(found)
+        self._outcomes[key] = outcome
+        return outcome
 
     def _totals(self, rows: list[_KindRows], n_mols: int) -> list[SharedTotals]:
         """Per molecule of the batch, the totals of its terms that have a shared outcome (the terms resolved
@@ -436,18 +423,8 @@ class FastAuditor:
         empty = SharedTotals({}, 0, [], (float("inf"), None))
         if not molecules:
             return [empty] * n_mols
-        if self._dense_arrays is None:
-            columns = list(zip(*self._dense_facts, strict=True))
-            distinct, rank = np.unique(np.array(columns[1], np.float64), return_inverse=True)
-            self._scores = distinct.tolist()
-            self._dense_arrays = (
-                np.array(columns[0], np.int64),
-                rank.reshape(-1).astype(np.int64),
-                np.array(columns[2], bool),
-                np.array(columns[3], bool),
-                np.array(columns[4], bool),
-            )
-        kt_of, rank_of, missing_of, unreviewed_of, single_of = self._dense_arrays
+        store = self._store
+        kt_of, rank_of, missing_of, unreviewed_of, single_of = store.columns()
         mol = np.concatenate(molecules)
         number = np.concatenate(numbers)
         position = np.concatenate(positions)
@@ -455,7 +432,7 @@ class FastAuditor:
         mol, number, position = mol[keep], number[keep], position[keep]
         if not len(mol):
             return [empty] * n_mols
-        kind_tiers = list(self._kind_tiers)
+        kind_tiers = store.kind_tiers
         n_kt = len(kind_tiers)
         table = np.bincount(mol * n_kt + kt_of[number], minlength=n_mols * n_kt)
         counts: list[dict[tuple[str, str], int]] = [{} for _ in range(n_mols)]
@@ -466,9 +443,9 @@ class FastAuditor:
         # rank, position), packed into one integer per term and sorted once
         rank = rank_of[number]
         p_bits = max(1, int(position.max()).bit_length())
-        r_bits = max(1, len(self._scores).bit_length())
+        r_bits = max(1, len(store.scores).bit_length())
         low: list[tuple[float, int | None]] = [(float("inf"), None)] * n_mols
-        scores = self._scores
+        scores = store.scores
         if p_bits + r_bits + max(1, n_mols.bit_length()) <= _PACK_BITS:
             packed = np.sort((mol << (r_bits + p_bits)) | (rank << p_bits) | position)
             head = packed >> (r_bits + p_bits)
@@ -502,7 +479,7 @@ class FastAuditor:
                 n_terms[by_first].tolist(),
                 strict=True,
             ):
-                kind, classes = self._missing_of[d]
+                kind, classes = store.missing_tuples[d]
                 missing[m].append((kind, classes, n))
         return [
             SharedTotals(counts[m], unreviewed[m], missing[m], low[m]) for m in range(n_mols)
