@@ -239,8 +239,9 @@ def join_molecules(
     """
     joined = Chem.RWMol()
     starts = np.zeros(len(facts) + 1, dtype=np.int64)
-    bond_parts: list[IntArray] = []
-    code_parts: list[IntArray] = []
+    begin_parts: list[IntArray] = []
+    end_parts: list[IntArray] = []
+    order_parts: list[NDArray[np.float64]] = []
     ring_copies: list[tuple[int, int, Chem.Mol]] = []
     atom_offset = 0
     bond_offset = 0
@@ -253,17 +254,23 @@ def join_molecules(
         if mol.GetNumBonds():
             adjacency = Chem.GetAdjacencyMatrix(mol, useBO=True, force=True)
             i, j = np.nonzero(np.triu(adjacency, 1))
-            orders = adjacency[i, j]
-            bond_parts.append(np.stack([i, j], axis=1).astype(np.int64) + atom_offset)
-            code = np.full(len(orders), -1, dtype=np.int64)
-            for value, c in _ADJACENCY_CODES.items():
-                code[orders == value] = c
-            code_parts.append(code)
+            order_parts.append(adjacency[i, j])
+            begin_parts.append(i + atom_offset)
+            end_parts.append(j + atom_offset)
         atom_offset += n
         bond_offset += mol.GetNumBonds()
         starts[m + 1] = atom_offset
-    bonds = np.concatenate(bond_parts) if bond_parts else np.zeros((0, 2), dtype=np.int64)
-    codes = np.concatenate(code_parts) if code_parts else np.zeros(0, dtype=np.int64)
+    if order_parts:  # the bonds of all molecules, each molecule's in the adjacency matrix's order
+        bonds = np.stack(
+            [np.concatenate(begin_parts), np.concatenate(end_parts)], axis=1
+        ).astype(np.int64)
+        orders = np.concatenate(order_parts)
+        codes = np.full(len(orders), -1, dtype=np.int64)
+        for value, c in _ADJACENCY_CODES.items():
+            codes[orders == value] = c
+    else:
+        bonds = np.zeros((0, 2), dtype=np.int64)
+        codes = np.zeros(0, dtype=np.int64)
     if copy_ring_info:
         info = joined.GetRingInfo()
         any_ring = False
