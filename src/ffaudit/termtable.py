@@ -18,6 +18,7 @@ two tables are equal when their resolutions are, whatever their storage.
 from __future__ import annotations
 
 import bisect
+import itertools
 import re
 from collections import Counter
 from collections.abc import Iterable, Iterator, Mapping, Sequence
@@ -239,21 +240,42 @@ def estimate_dict(
     return out
 
 
-class AtomRows(Sequence[tuple[int, ...]]):
+class _Slices:
+    """Rows kept as a list of array slices, with their running ends to find the slice of a row."""
+
+    __slots__ = ("_parts", "_ends")
+
+    def __init__(self, parts: Sequence[Any]) -> None:
+        self._parts = [p for p in parts if len(p)]
+        self._ends = list(itertools.accumulate(len(p) for p in self._parts))
+
+    def __len__(self) -> int:
+        return self._ends[-1] if self._ends else 0
+
+    def _checked(self, index: int) -> int:
+        """``index`` made non-negative; ``IndexError`` when it is out of range."""
+        if index < 0:
+            index += len(self)
+        if not 0 <= index < len(self):
+            raise IndexError("term index out of range")
+        return index
+
+    def _row(self, index: int) -> Any:
+        """Row ``index`` (non-negative, in range) of its slice."""
+        part = bisect.bisect_right(self._ends, index)
+        start = self._ends[part - 1] if part else 0
+        return self._parts[part][index - start]
+
+
+class AtomRows(_Slices, Sequence[tuple[int, ...]]):
     """The atom tuples of a molecule's terms, kept as the rows of integer arrays (one array per term kind,
     in term order) and turned into tuples only when asked: a run that lists no terms never makes them.
     One row is converted on its own; :meth:`materialise` converts all at once (and keeps the list)."""
 
-    __slots__ = ("_parts", "_ends", "_list")
+    __slots__ = ("_list",)
 
     def __init__(self, parts: Sequence[Any]) -> None:
-        self._parts = [p for p in parts if len(p)]
-        ends: list[int] = []
-        total = 0
-        for p in self._parts:
-            total += len(p)
-            ends.append(total)
-        self._ends = ends
+        super().__init__(parts)
         self._list: list[tuple[int, ...]] | None = None
 
     def materialise(self) -> list[tuple[int, ...]]:
@@ -265,9 +287,6 @@ class AtomRows(Sequence[tuple[int, ...]]):
             self._list = out
         return self._list
 
-    def __len__(self) -> int:
-        return self._ends[-1] if self._ends else 0
-
     @overload
     def __getitem__(self, index: int) -> tuple[int, ...]: ...
 
@@ -277,31 +296,19 @@ class AtomRows(Sequence[tuple[int, ...]]):
     def __getitem__(self, index: int | slice) -> tuple[int, ...] | list[tuple[int, ...]]:
         if self._list is not None or isinstance(index, slice):
             return self.materialise()[index]
-        if index < 0:
-            index += len(self)
-        if not 0 <= index < len(self):
-            raise IndexError("term index out of range")
-        part = bisect.bisect_right(self._ends, index)
-        start = self._ends[part - 1] if part else 0
-        return tuple(self._parts[part][index - start].tolist())
+        return tuple(self._row(self._checked(index)).tolist())
 
 
-class KeyRows(Sequence[int]):
+class KeyRows(_Slices, Sequence[int]):
     """The keys of a molecule's terms, kept as slices of integer arrays (one per term kind, in term order)
     plus the positions whose key was replaced (by :data:`OWN` or :data:`ESTIMATED`), and turned into a
     list of ints only when asked: a run that lists no terms never makes it. :meth:`materialise` converts
     all at once (and keeps the list)."""
 
-    __slots__ = ("_parts", "_ends", "_replaced", "_list")
+    __slots__ = ("_replaced", "_list")
 
     def __init__(self, parts: Sequence[Any], replaced: Mapping[int, int]) -> None:
-        self._parts = [p for p in parts if len(p)]
-        ends: list[int] = []
-        total = 0
-        for p in self._parts:
-            total += len(p)
-            ends.append(total)
-        self._ends = ends
+        super().__init__(parts)
         self._replaced = replaced
         self._list: list[int] | None = None
 
@@ -316,9 +323,6 @@ class KeyRows(Sequence[int]):
             self._list = out
         return self._list
 
-    def __len__(self) -> int:
-        return self._ends[-1] if self._ends else 0
-
     @overload
     def __getitem__(self, index: int) -> int: ...
 
@@ -328,16 +332,9 @@ class KeyRows(Sequence[int]):
     def __getitem__(self, index: int | slice) -> int | list[int]:
         if self._list is not None or isinstance(index, slice):
             return self.materialise()[index]
-        if index < 0:
-            index += len(self)
-        if not 0 <= index < len(self):
-            raise IndexError("term index out of range")
+        index = self._checked(index)
         key = self._replaced.get(index)
-        if key is not None:
-            return key
-        part = bisect.bisect_right(self._ends, index)
-        start = self._ends[part - 1] if part else 0
-        return int(self._parts[part][index - start])
+        return int(self._row(index)) if key is None else key
 
     def __iter__(self) -> Iterator[int]:
         return iter(self.materialise())
