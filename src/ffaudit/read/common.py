@@ -5,7 +5,7 @@ from __future__ import annotations
 from collections.abc import Callable, Mapping
 from typing import Any, NamedTuple
 
-from rdkit import Chem
+from rdkit import Chem, rdBase
 
 from ffaudit.read.rdkit_log import call_quietly
 from ffaudit.read.record import Record
@@ -86,10 +86,23 @@ def parse_then_classify(
     reader's own finding (for example a counts line that does not match) when RDKit gave no message.
     ``locate`` rewrites RDKit's message (for example to turn line numbers within a block into file lines).
     A molecule with no atoms is refused too. Never raises.
+
+    RDKit's messages matter only when there is no molecule, so the first parse runs with the log blocked
+    but not captured (capturing costs more than parsing a small molecule); a failed parse is run again
+    with the log captured, which gives the same messages (RDKit's parsers are deterministic).
     """
+    try:
+        with rdBase.BlockLogs():
+            mol = parse(True)
+    except Exception:  # run again below, capturing what RDKit says
+        mol = None
+    if mol is not None:
+        if mol.GetNumAtoms() == 0:
+            return ParseResult(None, f"{what} has no atoms")
+        return ParseResult(mol, None)
     mol, message = call_quietly(lambda: parse(True))
     message = _note_atom_numbering(locate(message)) if message else message
-    if mol is not None:
+    if mol is not None:  # the second parse gave a molecule after all
         if mol.GetNumAtoms() == 0:
             return ParseResult(None, f"{what} has no atoms")
         return ParseResult(mol, None)
