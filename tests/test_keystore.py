@@ -33,9 +33,7 @@ outcomes = st.one_of(
 
 @settings(max_examples=60, deadline=None)
 @given(
-    st.lists(
-        st.lists(st.tuples(st.integers(-(2**62), 2**62), outcomes), max_size=40), max_size=6
-    ),
+    st.lists(st.lists(st.tuples(st.integers(-(2**62), 2**62), outcomes), max_size=40), max_size=6),
 )
 def test_store_numbers_keys_and_keeps_their_facts(
     batches: list[list[tuple[int, SharedOutcome | None]]],

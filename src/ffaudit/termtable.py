@@ -66,7 +66,6 @@ class SharedOutcome:
         "reason",
         "cause",
         "substitutions",
-        "group",
         "kind_tier",
         "unreviewed",
         "_output",
@@ -95,7 +94,6 @@ class SharedOutcome:
         self.reason = reason
         self.cause = cause
         self.substitutions = substitutions
-        self.group = (kind, tier, entry, score)  # the start of its rows in TermTable.groups
         self.kind_tier = (kind, tier)
         self.unreviewed = unreviewed_entry(tier, entry)
         self._output: tuple[ParameterSet, dict[str, Any], str, str] | None = None
@@ -367,7 +365,7 @@ class TermTable(Sequence[Resolution]):
     """
 
     __slots__ = (
-        "_atoms", "_keys", "_shared", "_own", "_estimated", "_totals", "_items", "_groups", "_counts",
+        "_atoms", "_keys", "_shared", "_own", "_estimated", "_totals", "_items", "_counts",
         "_key_counts", "_missing", "_low", "_unreviewed",
     )  # fmt: skip
 
@@ -389,11 +387,11 @@ class TermTable(Sequence[Resolution]):
         self._estimated: Mapping[int, SharedEstimate] = estimated or {}
         self._totals = totals
         self._items: tuple[Resolution, ...] | None = None
-        self._groups: list[tuple[str, str, Entry | None, float, int]] | None = None
         self._counts: Counter[tuple[str, str]] | None = None
         self._key_counts: Counter[int] | None = None
         self._missing: list[tuple[str, tuple[str, ...], int]] | None = None
-        self._low: tuple[float, int | None] | None = None  # (lowest score, its first term's position)
+        # (lowest score, the position of the first term that has it)
+        self._low: tuple[float, int | None] | None = None
         self._unreviewed: int | None = None
 
     @classmethod
@@ -507,20 +505,6 @@ class TermTable(Sequence[Resolution]):
         self._low = totals.low
         self._unreviewed = unreviewed
 
-    def groups(self) -> list[tuple[str, str, Entry | None, float, int]]:
-        """(kind, tier, entry, score, number of terms) per shared outcome used (in the order of their first
-        terms), per shared estimate and per own resolution (made on first call, then kept; do not change
-        the list)."""
-        if self._groups is None:
-            shared = self._shared
-            groups = [shared[key].group + (n,) for key, n in self._keys_used().items() if key >= 0]
-            for e, n in Counter(self._estimated.values()).items():
-                groups.append((e.kind, e.tier, e.entry, e.score, n))
-            for r in self._own.values():
-                groups.append((r.term.kind, r.tier, r.entry, r.score, 1))
-            self._groups = groups
-        return self._groups
-
     def tier_counts(self) -> Counter[tuple[str, str]]:
         """Number of terms per (kind, tier) (made on first call, then kept; do not change it)."""
         if self._counts is None:
@@ -624,7 +608,8 @@ class TermTable(Sequence[Resolution]):
         out: list[tuple[SharedOutcome | SharedEstimate | Resolution, tuple[int, ...]]] = []
         if not positions:
             return out
-        atoms, keys, shared, own = _atom_list(self._atoms), _key_list(self._keys), self._shared, self._own
+        atoms, keys = _atom_list(self._atoms), _key_list(self._keys)
+        shared, own = self._shared, self._own
         for i in positions:
             key = keys[i]
             if key == OWN:
@@ -641,7 +626,8 @@ class TermTable(Sequence[Resolution]):
         if not positions:
             return []
         outputs = self._outputs(pset, positions)
-        atoms, keys, shared, own = _atom_list(self._atoms), _key_list(self._keys), self._shared, self._own
+        atoms, keys = _atom_list(self._atoms), _key_list(self._keys)
+        shared, own = self._shared, self._own
         out: list[dict[str, Any]] = []
         append = out.append
         for i in positions:

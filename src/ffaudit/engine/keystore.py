@@ -112,8 +112,10 @@ class KeyStore:
         rank = bisect.bisect_left(self.scores, outcome.score)
         if rank == len(self.scores) or self.scores[rank] != outcome.score:
             self.scores.insert(rank, outcome.score)
-            ranks = self._rank[:number]
-            ranks[ranks >= rank] += 1  # the ranks of the higher scores move up (only on a new score)
+            ranks = self._rank[
+                :number
+            ]  # the ranks of the higher scores move up (on a new score only)
+            ranks[ranks >= rank] += 1
         self._rank[number] = rank
         if outcome.tier == "missing":
             self._missing[number] = True
