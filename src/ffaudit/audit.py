@@ -299,7 +299,7 @@ def decide_status(
     counts = _table(resolutions).tier_counts()
     missing: Counter[str] = Counter()
     for (kind, tier), n in counts.items():
-        if tier == "missing" and n:
+        if tier == "missing":
             missing[kind] += n
     if missing:
         parts = [
