@@ -367,7 +367,8 @@ class FastAuditor:
             ]
             numbers[new] = store.add(keys, found_outcomes)
         inverse = inverse.reshape(-1)
-        single = store.columns()[4][numbers]
+        *_, one_by_one = store.columns()
+        single = one_by_one[numbers]
         if single.any():
             rows = np.flatnonzero(single[inverse])
             singles, single_atoms = rows.tolist(), local[rows].tolist()
@@ -393,9 +394,7 @@ class FastAuditor:
         """The shared outcome of a key not seen before (resolved on the terms of ``row``), or None when its
         terms are resolved one by one (an unclassified atom, or a missing tuple to estimate term by
         term); noted in ``_key_info`` and ``_outcomes``."""
-        info = self._key_info.get(key)
-        if info is None:
-            info = self._key_info[key] = self._describe(kt, row)
+        info = self._key_info[key] = self._describe(kt, row)
         outcome: SharedOutcome | None = None
         if not info.unassigned:  # the reference never shares those: the reason names the atoms
             atoms = tuple(local[row].tolist())
