@@ -192,3 +192,44 @@ def test_shared_estimates_do_not_depend_on_the_order_molecules_come_in():
     assert estimated > 5000  # the check is about something: thousands of estimated terms
     assert run(records[::-1], fast=True) == forward
     assert run(records[::-1], fast=False) == forward
+
+
+def test_typing_without_the_hydrogen_copy_equals_the_typing_of_the_copy():
+    """:class:`AddedHydrogenTypes` (the fast path's typing of ``Chem.AddHs(mol)``, read from ``mol``) gives
+    what :class:`MoleculeTypes` of the real ``Chem.AddHs(mol)`` gives, for every atom and every bond.
+
+    Input: the first 1,000 records of RDKit's NCI first_5K.smi (they include charged atoms, metals, explicit
+    hydrogens kept by the parser and molecules of several fragments), plus a few SMILES with explicit
+    hydrogen atoms and isotopic hydrogens that the parser keeps as atoms.
+    """
+    from ffaudit.resolve.estimate import AddedHydrogenTypes, MoleculeTypes
+
+    smiles = [line.split()[0] for line in open(NCI_5K) if line.strip()][:1000]
+    smiles += ["[2H]C([2H])O", "[H][N+]([H])([H])C", "C[H:1]", "OC(=O)c1ccccc1[O-]"]
+    compared = 0
+    for text in smiles:
+        mol = Chem.MolFromSmiles(text)
+        if mol is None:
+            continue
+        molh = Chem.AddHs(mol)
+        copy = MoleculeTypes(molh)
+        view = AddedHydrogenTypes(mol, [a.GetTotalNumHs() for a in mol.GetAtoms()])
+        assert molh.GetNumAtoms() == view._first_h[-1], text
+        for i in range(molh.GetNumAtoms()):
+            assert view.of(i) is copy.of(i), (text, i)  # typings are interned
+            assert view.atom(i) == copy.atom(i), (text, i)
+        for bond in molh.GetBonds():
+            i, j = bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
+            try:
+                expected: object = copy.order(i, j)
+            except ValueError as exc:
+                expected = ("raises", str(exc))
+            try:
+                got: object = view.order(i, j)
+            except ValueError as exc:
+                got = ("raises", str(exc))
+            assert got == expected, (text, i, j)
+            compared += 1
+        with pytest.raises(IndexError):
+            view.of(molh.GetNumAtoms())
+    assert compared > 20_000  # the records above have about 27 bonds each

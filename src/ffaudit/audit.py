@@ -19,6 +19,7 @@ from collections import Counter
 from collections.abc import Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import cached_property
+from operator import attrgetter
 from typing import Any, cast
 
 from rdkit import Chem
@@ -34,6 +35,9 @@ from ffaudit.score import RESOLVED_FROM_SET, TIERS
 from ffaudit.termdict import rounded, term_ref
 from ffaudit.terms import enumerate_terms
 from ffaudit.termtable import TermTable
+
+_CLASS_ID = attrgetter("class_id")
+"""The class id of an :class:`Assignment` (None: the atom has no class)."""
 
 STATUSES: tuple[str, ...] = ("covered", "estimated", "incomplete", "unreadable")
 TERMS_MODES: tuple[str, ...] = ("all", "problems", "none")
@@ -145,7 +149,7 @@ class MoleculeAudit:
             "score_term": None if worst is None else term_ref(worst.term),
             "atoms": len(self.assignments),
             "fragments": self.fragments,
-            "atom_classes": [a.class_id for a in self.assignments],
+            "atom_classes": list(map(_CLASS_ID, self.assignments)),
             "counts": self.counts.to_dict(),
             "findings": [f.to_dict() for f in self.findings],
         }
@@ -349,14 +353,17 @@ class Summary:
         missing = table.missing_tuples(audit.elements)
         self.missing_terms.update(missing)
         self.missing_molecules.update(missing.keys())
-        self.assigned.update(a.class_id for a in audit.assignments if a.class_id is not None)
-        lacking = {
-            audit.elements[a.atom]
-            for a in audit.assignments
-            if a.class_id is None and audit.elements[a.atom] not in self._known_elements
-        }
-        for element in lacking:
-            self.elements_without_class[element] += 1
+        classes = list(map(_CLASS_ID, audit.assignments))
+        self.assigned.update(classes)
+        if None in classes:  # some atoms have no class
+            self.assigned.discard(None)
+            lacking = {
+                audit.elements[a.atom]
+                for a in audit.assignments
+                if a.class_id is None and audit.elements[a.atom] not in self._known_elements
+            }
+            for element in lacking:
+                self.elements_without_class[element] += 1
 
     def merge(self, other: Summary) -> None:
         """Add another summary's totals (of records that come *after* this one's, for the unreadable list)."""

@@ -27,6 +27,7 @@ driver then audits the batch's records one by one); it never returns a partial b
 
 from __future__ import annotations
 
+import itertools
 from collections.abc import Sequence
 from dataclasses import dataclass
 
@@ -253,7 +254,9 @@ def join_molecules(
             ring_copies.append((atom_offset, bond_offset, mol))
         if mol.GetNumBonds():
             adjacency = Chem.GetAdjacencyMatrix(mol, useBO=True, force=True)
-            i, j = np.nonzero(np.triu(adjacency, 1))
+            i, j = np.nonzero(adjacency)
+            upper = i < j  # each bond once, in the order of the upper triangle
+            i, j = i[upper], j[upper]
             order_parts.append(adjacency[i, j])
             begin_parts.append(i + atom_offset)
             end_parts.append(j + atom_offset)
@@ -284,8 +287,9 @@ def join_molecules(
     else:
         Chem.FastFindRings(joined)
     n_total = atom_offset
-    z = np.fromiter((x for f in facts for x in f.z), dtype=np.int64, count=n_total)
-    new_h = np.fromiter((x for f in facts for x in f.new_h), dtype=np.int64, count=n_total)
+    chain = itertools.chain.from_iterable
+    z = np.fromiter(chain([f.z for f in facts]), dtype=np.int64, count=n_total)
+    new_h = np.fromiter(chain([f.new_h for f in facts]), dtype=np.int64, count=n_total)
     ring_pairs = joined.GetSubstructMatches(
         _RING_BOND, uniquify=True, maxMatches=4 * len(bonds) + 8
     )

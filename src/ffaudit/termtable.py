@@ -22,7 +22,7 @@ import itertools
 import re
 from collections import Counter
 from collections.abc import Iterable, Iterator, Mapping, Sequence
-from typing import Any, overload
+from typing import Any, cast, overload
 
 from ffaudit.paramset.canonical import UNASSIGNED
 from ffaudit.paramset.model import Entry, ParameterSet
@@ -69,6 +69,7 @@ class SharedOutcome:
         "kind_tier",
         "unreviewed",
         "_output",
+        "_template",
     )
 
     def __init__(
@@ -97,6 +98,7 @@ class SharedOutcome:
         self.kind_tier = (kind, tier)
         self.unreviewed = unreviewed_entry(tier, entry)
         self._output: tuple[ParameterSet, dict[str, Any], str, str] | None = None
+        self._template: tuple[ParameterSet, dict[str, Any]] | None = None
 
     @classmethod
     def of(cls, resolution: Resolution) -> SharedOutcome:
@@ -132,6 +134,17 @@ class SharedOutcome:
         after = "]," + _compact(tail)[1:]
         self._output = (pset, tail, before, after)
         return tail, before, after
+
+    def term_template(self, pset: ParameterSet, atoms: tuple[int, ...]) -> dict[str, Any]:
+        """The whole term dict with ``atoms`` set to None: a term's dict is a copy of it with its atoms put in
+        (``dict.copy`` keeps the key order and is several times cheaper than building the dict key by
+        key). Made once per parameter set; nested values are shared: never mutate them."""
+        cached = self._template
+        if cached is not None and cached[0] is pset:
+            return cached[1]
+        template = {"kind": self.kind, "atoms": None, **self.output(pset, atoms)[0]}
+        self._template = (pset, template)
+        return template
 
 
 def unreviewed_entry(tier: str, entry: Entry | None) -> bool:
@@ -275,6 +288,13 @@ class AtomRows(_Slices, Sequence[tuple[int, ...]]):
     def __init__(self, parts: Sequence[Any]) -> None:
         super().__init__(parts)
         self._list: list[tuple[int, ...]] | None = None
+
+    def lists(self) -> list[list[int]]:
+        """Every row as a new list of ints, in order (not kept: the caller owns the lists)."""
+        out: list[list[int]] = []
+        for p in self._parts:
+            out += p.tolist()
+        return out
 
     def materialise(self) -> list[tuple[int, ...]]:
         """Every row as a tuple of ints, in order (made on first call, then kept)."""
@@ -621,27 +641,40 @@ class TermTable(Sequence[Resolution]):
         return out
 
     def term_dicts(self, pset: ParameterSet, terms: str = "all") -> list[dict[str, Any]]:
-        """The listed term dicts (``terms``: all, problems or none), as :func:`resolution_dict` makes them."""
+        """The listed term dicts (``terms``: all, problems or none), as :func:`resolution_dict` makes them.
+
+        A term with a shared outcome gets a copy of that outcome's template with its atoms put in; nested
+        values are shared between such dicts: never mutate them.
+        """
         positions = self._listed(terms)
         if not positions:
             return []
-        outputs = self._outputs(pset, positions)
-        atoms, keys = _atom_list(self._atoms), _key_list(self._keys)
+        keys = _key_list(self._keys)
+        atoms = self._atoms
+        # the atoms of every term but the own ones (whose atoms are in their resolution)
+        rows: Sequence[Any]
+        if isinstance(atoms, AtomRows):  # fresh lists, one per term: the dicts take them as they are
+            rows, fresh = atoms.lists(), True
+        else:
+            rows, fresh = cast("Sequence[Any]", atoms), False  # None only at own terms' positions
         shared, own = self._shared, self._own
+        templates: dict[int, dict[str, Any]] = {}
+        get = templates.get
         out: list[dict[str, Any]] = []
         append = out.append
         for i in positions:
             key = keys[i]
-            if key == OWN:
+            if key >= 0:
+                template = get(key)
+                if template is None:
+                    template = templates[key] = shared[key].term_template(pset, tuple(rows[i]))
+                d = template.copy()
+                d["atoms"] = rows[i] if fresh else list(rows[i])
+                append(d)
+            elif key == OWN:
                 append(resolution_dict(own[i], pset))
-            elif key == ESTIMATED:
-                a = atoms[i]
-                assert a is not None
-                append(estimate_dict(self._estimated[i], pset, a))
             else:
-                a = atoms[i]
-                assert a is not None
-                append({"kind": shared[key].kind, "atoms": list(a), **outputs[key][0]})
+                append(estimate_dict(self._estimated[i], pset, tuple(rows[i])))
         return out
 
     def terms_json(self, pset: ParameterSet, terms: str = "all") -> str:

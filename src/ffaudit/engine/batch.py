@@ -54,7 +54,7 @@ from ffaudit.perceive.classes import Assignment
 from ffaudit.perceive.propose import ProposedClass
 from ffaudit.read.record import Record
 from ffaudit.resolve.driver import Resolution, SharedEstimate
-from ffaudit.resolve.estimate import MoleculeTypes
+from ffaudit.resolve.estimate import AddedHydrogenTypes, MoleculeTypes
 from ffaudit.terms import Term
 from ffaudit.terms_batch import NO_QUALIFIER, KindTerms, enumerate_batch
 from ffaudit.termtable import (
@@ -534,7 +534,14 @@ class FastAuditor:
 
         def types() -> MoleculeTypes | None:
             if not types_cache:
-                types_cache.append(MoleculeTypes(molh()) if self._estimate else None)
+                found: MoleculeTypes | None = None
+                if self._estimate:  # a heavy batch: the typing of Chem.AddHs(mol), without the copy
+                    found = (
+                        MoleculeTypes(item_facts.mol)
+                        if batch.added_h
+                        else AddedHydrogenTypes(mol, item_facts.new_h)
+                    )
+                types_cache.append(found)
             return types_cache[0]
 
         # terms: the tuples were resolved per batch (_rows); estimates and terms with an unclassified atom

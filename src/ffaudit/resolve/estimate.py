@@ -23,8 +23,10 @@ instead of a signature or an estimate.
 
 from __future__ import annotations
 
+import bisect
 import contextlib
-from collections.abc import Mapping
+import itertools
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -125,7 +127,62 @@ class MoleculeTypes:
         return order
 
 
+class AddedHydrogenTypes(MoleculeTypes):
+    """The :class:`MoleculeTypes` of ``Chem.AddHs(mol)``, read from ``mol`` without making that copy.
+
+    Atom ``i < mol.GetNumAtoms()`` is ``mol``'s own atom ``i`` (hybridisation, aromaticity and bond flags are
+    what ``AddHs`` copies; its degree counts the hydrogens to be added); the atoms after them are the
+    hydrogens ``AddHs`` adds, numbered as it numbers them: ``new_h[0]`` on atom 0 first, then ``new_h[1]``
+    on atom 1, and so on (``new_h[i]`` is ``GetTotalNumHs()`` of atom ``i``). Every answer equals that of
+    ``MoleculeTypes(Chem.AddHs(mol))`` (tests/test_estimate_tier.py compares them on NCI records). Asking
+    about an atom index beyond the added hydrogens raises ``IndexError``.
+    """
+
+    def __init__(self, mol: Chem.Mol, new_h: Sequence[int]) -> None:
+        super().__init__(mol)
+        self._n = mol.GetNumAtoms()
+        self._new_h = new_h
+        self._first_h = list(itertools.accumulate(new_h, initial=self._n))  # first hydrogen of each atom
+
+    def _parent(self, hydrogen: int) -> int:
+        if not self._n <= hydrogen < self._first_h[-1]:
+            raise IndexError(f"atom index {hydrogen} out of range")
+        return bisect.bisect_right(self._first_h, hydrogen) - 1
+
+    def of(self, atom: int) -> UffTyping:
+        if atom < self._n:
+            return super().of(atom)
+        self._parent(atom)  # raises for an index out of range
+        return _ADDED_H_TYPING
+
+    def atom(self, index: int) -> tuple[str, Any, int, frozenset[int]]:
+        info = self._atoms.get(index)
+        if info is None:
+            if index < self._n:
+                a = self.mol.GetAtomWithIdx(index)
+                first = self._first_h[index]
+                around = [n.GetIdx() for n in a.GetNeighbors()]
+                around += range(first, first + self._new_h[index])
+                info = (a.GetSymbol(), a.GetHybridization(), a.GetTotalDegree(), frozenset(around))
+            else:
+                info = ("H", _ADDED_H_HYBRIDISATION, 1, frozenset((self._parent(index),)))
+            self._atoms[index] = info
+        return info
+
+    def order(self, i: int, j: int) -> float:
+        if i < self._n and j < self._n:
+            return super().order(i, j)
+        hydrogen, other = (i, j) if i >= self._n else (j, i)
+        if self._parent(hydrogen) != other:
+            raise ValueError(f"atoms {i} and {j} are not bonded")
+        return 1.0  # AddHs bonds its hydrogens by single bonds
+
+
 _TYPINGS: dict[UffTyping, UffTyping] = {}
+_METHANE = Chem.AddHs(Chem.MolFromSmiles("C"))
+_ADDED_H = _METHANE.GetAtomWithIdx(1)  # a hydrogen as AddHs adds it
+_ADDED_H_TYPING = _TYPINGS.setdefault(assign_uff_type(_ADDED_H), assign_uff_type(_ADDED_H))
+_ADDED_H_HYBRIDISATION = _ADDED_H.GetHybridization()
 
 Signature = tuple[str, tuple[UffTyping, ...], tuple[Any, ...]]
 """(kind, the atoms' UFF typings in term order, the facts the kind's rule reads): all an estimate depends on
@@ -217,7 +274,8 @@ def _dihedral_facts(term: Term, types: MoleculeTypes) -> tuple[Any, ...] | str:
             f"uff-torsion covers sp2/sp3 central atoms only (got {hj or hyb_j!s}, {hk or hyb_k!s})"
         )
     order = types.order(j, k)
-    ends_sp2 = any(types.atom(x)[1] == Chem.HybridizationType.SP2 for x in (i, last))
+    sp2 = Chem.HybridizationType.SP2
+    ends_sp2 = types.atom(i)[1] == sp2 or types.atom(last)[1] == sp2
     m = (degree_j - 1) * (degree_k - 1) - len(around_j & around_k)
     return hj, hk, order, ends_sp2, m
 
