@@ -18,8 +18,9 @@ Two layouts:
 - ``added_h=True`` (*explicit layout*): the molecules after ``AddHs``; the hydrogen graph is ``joined`` itself.
 
 Per-atom and per-bond facts are read once per molecule (atomic number, hydrogens to add: one Python call per
-atom; bonds and bond orders: ``Chem.GetAdjacencyMatrix``; hybridisation, aromaticity, ring bonds: one SMARTS
-query per batch), because every RDKit call from Python costs about half a microsecond.
+atom; bonds and bond orders: ``Chem.GetAdjacencyMatrix``; ring bonds: the molecule's own ``AtomRings()``;
+hybridisation and aromaticity: one SMARTS query per batch), because every RDKit call from Python costs about
+half a microsecond.
 
 Failure: :func:`join_molecules` raises whatever RDKit raises for a molecule it cannot process (the batch
 driver then audits the batch's records one by one); it never returns a partial batch.
@@ -47,7 +48,6 @@ _ADJACENCY_CODES = {1.0: 0, 2.0: 1, 3.0: 2, 1.5: 3}
 
 _SP = Chem.MolFromSmarts("[^1]")
 _PLANAR = Chem.MolFromSmarts("[^2,a]")
-_RING_BOND = Chem.MolFromSmarts("*@*")
 # Bonds that are not single, double, triple or aromatic (dative, zero-order, one-and-a-half, ...): their order
 # cannot be read from the adjacency matrix, and ring perception may leave them out, so molecules having any
 # are read bond by bond.
@@ -235,7 +235,8 @@ def join_molecules(
 
     ``copy_ring_info``: copy every molecule's own ring information into the joined molecule (needed when a
     class rule asks about rings: ring counts and sizes then match the molecule's own exactly). Otherwise the
-    joined molecule gets ring membership only (``Chem.FastFindRings``), which is all bond ring flags need.
+    joined molecule gets ring membership only (``Chem.FastFindRings``), which is all the rules' ring primitives
+then need. Bond ring flags come from each molecule's own rings either way.
     Raises what RDKit raises.
     """
     joined = Chem.RWMol()
@@ -244,12 +245,16 @@ def join_molecules(
     end_parts: list[IntArray] = []
     order_parts: list[NDArray[np.float64]] = []
     ring_copies: list[tuple[int, int, Chem.Mol]] = []
+    ring_parts: list[tuple[int, tuple[tuple[int, ...], ...]]] = []
     atom_offset = 0
     bond_offset = 0
     for m, fact in enumerate(facts):
         mol = fact.mol
         joined.InsertMol(mol)
         n = fact.n_atoms
+        rings = mol.GetRingInfo().AtomRings()
+        if rings:
+            ring_parts.append((atom_offset, rings))
         if copy_ring_info:
             ring_copies.append((atom_offset, bond_offset, mol))
         if mol.GetNumBonds():
@@ -290,10 +295,7 @@ def join_molecules(
     chain = itertools.chain.from_iterable
     z = np.fromiter(chain([f.z for f in facts]), dtype=np.int64, count=n_total)
     new_h = np.fromiter(chain([f.new_h for f in facts]), dtype=np.int64, count=n_total)
-    ring_pairs = joined.GetSubstructMatches(
-        _RING_BOND, uniquify=True, maxMatches=4 * len(bonds) + 8
-    )
-    ring = _pair_mask(bonds, ring_pairs, n_total)
+    ring = _ring_bond_mask(bonds, ring_parts, n_total)
     unusual = joined.GetSubstructMatches(_UNUSUAL_BOND, uniquify=True, maxMatches=n_total * 8 + 8)
     odd = {int(np.searchsorted(starts, pair[0], side="right")) - 1 for pair in unusual}
     if len(codes):
@@ -361,11 +363,23 @@ def _atom_mask(mol: Chem.Mol, query: Chem.Mol, n: int) -> BoolArray:
     return mask
 
 
-def _pair_mask(bonds: IntArray, pairs: Sequence[tuple[int, ...]], n: int) -> BoolArray:
-    """Which rows of ``bonds`` are among ``pairs`` (either orientation)."""
-    if not len(bonds) or not pairs:
+def _ring_bond_mask(
+    bonds: IntArray, ring_parts: Sequence[tuple[int, Sequence[Sequence[int]]]], n: int
+) -> BoolArray:
+    """Which rows of ``bonds`` are ring bonds: bonds between consecutive atoms of a ring of their molecule's
+    own ring information (``ring_parts``: each molecule's first atom and ``AtomRings()``). Every bond in a
+    cycle lies on a ring of a cycle basis such as the SSSR, so this is what ``Bond.IsInRing()`` says."""
+    if not len(bonds) or not ring_parts:
         return np.zeros(len(bonds), dtype=bool)
-    p = np.array(pairs, dtype=np.int64)
-    keys = np.minimum(p[:, 0], p[:, 1]) * n + np.maximum(p[:, 0], p[:, 1])
-    bkeys = np.minimum(bonds[:, 0], bonds[:, 1]) * n + np.maximum(bonds[:, 0], bonds[:, 1])
-    return np.isin(bkeys, keys)
+    chain = itertools.chain.from_iterable
+    all_rings = [ring for _, rings in ring_parts for ring in rings]
+    atoms = np.fromiter(chain(all_rings), dtype=np.int64)
+    sizes = np.fromiter(map(len, all_rings), dtype=np.int64, count=len(all_rings))
+    per_molecule = [sum(map(len, rings)) for _, rings in ring_parts]
+    atoms += np.repeat(np.array([offset for offset, _ in ring_parts], dtype=np.int64), per_molecule)
+    ends = np.cumsum(sizes)
+    following = np.roll(atoms, -1)  # the next atom along each ring; the last one closes it
+    following[ends - 1] = atoms[ends - sizes]
+    keys = np.minimum(atoms, following) * n + np.maximum(atoms, following)
+    bond_keys = np.minimum(bonds[:, 0], bonds[:, 1]) * n + np.maximum(bonds[:, 0], bonds[:, 1])
+    return np.isin(bond_keys, keys)
