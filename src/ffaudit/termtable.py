@@ -567,13 +567,15 @@ class TermTable(Sequence[Resolution]):
         if hits == n:
             return list(range(n))
         shared = self._shared
-        keep = {k for k in self._keys_used() if k >= 0 and shared[k].tier in wanted}
+        keys = _key_list(self._keys)
+        used = self._key_counts if self._key_counts is not None else set(keys)
+        keep = {k for k in used if k >= 0 and shared[k].tier in wanted}
         if "estimate" in wanted:
             keep.add(ESTIMATED)
-        if not self._own:
-            return [i for i, k in enumerate(_key_list(self._keys)) if k in keep]
-        own = {i for i, r in self._own.items() if r.tier in wanted}
-        return [i for i, k in enumerate(_key_list(self._keys)) if k in keep or i in own]
+        # the positions of the kept keys, picked in C (own terms have the key OWN, never kept here)
+        picked = list(itertools.compress(range(n), map(keep.__contains__, keys)))
+        own = [i for i, r in self._own.items() if r.tier in wanted]
+        return sorted(picked + own) if own else picked
 
     def picked(self, positions: Iterable[int]) -> list[Resolution]:
         """The resolutions at ``positions`` (built for these terms only)."""

@@ -43,73 +43,87 @@ class UffTyping:
     reason: str
 
 
+_INTERNED: dict[tuple[str | None, str], UffTyping] = {}
+
+
+def _typing(label: str | None, reason: str) -> UffTyping:
+    """The one :class:`UffTyping` of (``label``, ``reason``), made on first use: equal typings are one
+    object, so estimate keys made of them compare at once."""
+    key = (label, reason)
+    typing = _INTERNED.get(key)
+    if typing is None:
+        typing = _INTERNED[key] = UffTyping(label, reason)
+    return typing
+
+
 def _resonant_or_2(atom: Chem.Atom, symbol: str) -> UffTyping:
     if atom.GetIsAromatic():
-        return UffTyping(f"{symbol}_R", "sp2 and aromatic: resonant type")
+        return _typing(f"{symbol}_R", "sp2 and aromatic: resonant type")
     if any(b.GetIsConjugated() for b in atom.GetBonds()):
-        return UffTyping(
+        return _typing(
             f"{symbol}_R",
             "sp2 with a conjugated bond: assumed resonant (_R), as RDKit's UFF does; "
             "the UFF paper reserves _R for aromatic/resonance-stabilised atoms",
         )
-    return UffTyping(f"{symbol}_2", "sp2, not aromatic, no conjugated bond")
+    return _typing(f"{symbol}_2", "sp2, not aromatic, no conjugated bond")
 
 
 def assign_uff_type(atom: Chem.Atom) -> UffTyping:
     """Return the UFF type of ``atom`` (an atom of a sanitised RDKit molecule) and the reason.
 
     Never raises for unusual chemistry: an atom with no type in :data:`UFF_TYPES` gets ``label=None``
-    and a reason naming the element, hybridisation or valence that has no type.
+    and a reason naming the element, hybridisation or valence that has no type. Equal results are one
+    object (interned process-wide).
     """
     symbol = atom.GetSymbol()
     hyb = atom.GetHybridization()
     valence = atom.GetTotalValence()
     if symbol == "H":
-        return UffTyping("H_", "hydrogen: H_ (bridging-hydrogen type H_b is never assigned)")
+        return _typing("H_", "hydrogen: H_ (bridging-hydrogen type H_b is never assigned)")
     if symbol in ("F", "I"):
-        return UffTyping(f"{symbol}_", "halogen: one type per element")
+        return _typing(f"{symbol}_", "halogen: one type per element")
     if symbol in ("Cl", "Br"):
-        return UffTyping(symbol, "halogen: one type per element")
+        return _typing(symbol, "halogen: one type per element")
     if symbol == "Si":
         reason = "silicon: Si3 is UFF's only Si type"
         if hyb != _HYB.SP3:
             reason += f" (RDKit hybridisation {hyb!s}; tetrahedral type assumed)"
-        return UffTyping("Si3", reason)
+        return _typing("Si3", reason)
     if symbol == "P":
         if valence in (3, 5):
-            return UffTyping(f"P_3+{valence}", f"phosphorus with total valence {valence}")
-        return UffTyping(
+            return _typing(f"P_3+{valence}", f"phosphorus with total valence {valence}")
+        return _typing(
             None, f"phosphorus with total valence {valence}: UFF has P_3+3 and P_3+5 only"
         )
     if symbol == "Se":
         if hyb == _HYB.SP3 and valence == 2:
-            return UffTyping("Se3+2", "divalent sp3 selenium")
-        return UffTyping(
+            return _typing("Se3+2", "divalent sp3 selenium")
+        return _typing(
             None, f"selenium with hybridisation {hyb!s} and valence {valence}: only Se3+2 exists"
         )
     if symbol == "S":
         if hyb == _HYB.SP2:
             return _resonant_or_2(atom, "S")
         if hyb == _HYB.SP3 and valence in (2, 4, 6):
-            return UffTyping(f"S_3+{valence}", f"sp3 sulfur with total valence {valence}")
-        return UffTyping(
+            return _typing(f"S_3+{valence}", f"sp3 sulfur with total valence {valence}")
+        return _typing(
             None, f"sulfur with hybridisation {hyb!s} and valence {valence}: no UFF type"
         )
     if symbol == "B":
         if hyb == _HYB.SP3:
-            return UffTyping("B_3", "sp3 boron")
+            return _typing("B_3", "sp3 boron")
         if hyb == _HYB.SP2:
-            return UffTyping("B_2", "sp2 boron")
-        return UffTyping(None, f"boron with hybridisation {hyb!s}: UFF has B_3 and B_2 only")
+            return _typing("B_2", "sp2 boron")
+        return _typing(None, f"boron with hybridisation {hyb!s}: UFF has B_3 and B_2 only")
     if symbol in ("C", "N", "O"):
         if hyb == _HYB.SP3:
-            return UffTyping(f"{symbol}_3", "sp3")
+            return _typing(f"{symbol}_3", "sp3")
         if hyb == _HYB.SP2:
             return _resonant_or_2(atom, symbol)
         if hyb == _HYB.SP:
-            return UffTyping(f"{symbol}_1", "sp (linear)")
-        return UffTyping(None, f"{symbol} with hybridisation {hyb!s}: no UFF type")
-    return UffTyping(None, f"element {symbol} is not in ffaudit's UFF table")
+            return _typing(f"{symbol}_1", "sp (linear)")
+        return _typing(None, f"{symbol} with hybridisation {hyb!s}: no UFF type")
+    return _typing(None, f"element {symbol} is not in ffaudit's UFF table")
 
 
 def bond_order(bond: Chem.Bond, amide_rule: bool = False) -> float:

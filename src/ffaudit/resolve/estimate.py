@@ -86,8 +86,7 @@ class MoleculeTypes:
     def of(self, atom: int) -> UffTyping:
         typing = self._types.get(atom)
         if typing is None:
-            typing = assign_uff_type(self.mol.GetAtomWithIdx(atom))
-            typing = _TYPINGS.setdefault(typing, typing)
+            typing = assign_uff_type(self.mol.GetAtomWithIdx(atom))  # interned
             self._types[atom] = typing
         return typing
 
@@ -178,10 +177,9 @@ class AddedHydrogenTypes(MoleculeTypes):
         return 1.0  # AddHs bonds its hydrogens by single bonds
 
 
-_TYPINGS: dict[UffTyping, UffTyping] = {}
 _METHANE = Chem.AddHs(Chem.MolFromSmiles("C"))
 _ADDED_H = _METHANE.GetAtomWithIdx(1)  # a hydrogen as AddHs adds it
-_ADDED_H_TYPING = _TYPINGS.setdefault(assign_uff_type(_ADDED_H), assign_uff_type(_ADDED_H))
+_ADDED_H_TYPING = assign_uff_type(_ADDED_H)
 _ADDED_H_HYBRIDISATION = _ADDED_H.GetHybridization()
 
 Signature = tuple[str, tuple[UffTyping, ...], tuple[Any, ...]]
