@@ -235,8 +235,8 @@ def join_molecules(
 
     ``copy_ring_info``: copy every molecule's own ring information into the joined molecule (needed when a
     class rule asks about rings: ring counts and sizes then match the molecule's own exactly). Otherwise the
-    joined molecule gets ring membership only (``Chem.FastFindRings``), which is all the rules' ring primitives
-then need. Bond ring flags come from each molecule's own rings either way.
+    joined molecule gets ring membership only (``Chem.FastFindRings``), which is all the rules' ring
+    primitives then need. Bond ring flags come from each molecule's own rings either way.
     Raises what RDKit raises.
     """
     joined = Chem.RWMol()

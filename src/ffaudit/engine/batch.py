@@ -535,7 +535,7 @@ class FastAuditor:
         def types() -> MoleculeTypes | None:
             if not types_cache:
                 found: MoleculeTypes | None = None
-                if self._estimate:  # a heavy batch: the typing of Chem.AddHs(mol), without the copy
+                if self._estimate:  # in a heavy batch, the typing of Chem.AddHs(mol) without the copy
                     found = (
                         MoleculeTypes(item_facts.mol)
                         if batch.added_h
