@@ -243,3 +243,31 @@ def test_uff_values_match_rdkit_getters(pset: ParameterSet) -> None:
     lj = pset.entries("nonbonded")[(("c4",), None, None)]
     assert lj.values["rmin_half"] == pytest.approx(x / 2, rel=5e-4)
     assert lj.values["epsilon"] == pytest.approx(d, rel=5e-4)
+
+
+def test_conjugation_chain_matches_the_nested_recursion(script: ModuleType) -> None:
+    # The set writes "a C/N/O neighbour with a multiple or aromatic bond to an atom other than S+ or Se+"
+    # as a chain; the nested form below says the same by definition of SMARTS recursion (Daylight SMARTS
+    # theory manual). RDKit's own matching of both forms must accept exactly the same atoms.
+    nested = "[#6,#7,#8;X2,X3;$(*=,#,:[!$([#16+,#34+])])]"
+    assert nested != script._CONJ
+    pairs = [
+        (f"[{head};$({first}-{script._CONJ})]", f"[{head};$({first}-{nested})]")
+        for head, first in (("NX3", "N"), ("OX1-", "O"), ("OX2H1+0", "O"), ("OX2H0+0", "O"))
+    ]
+    with open(NCI_SMI) as handle:
+        mols = [Chem.MolFromSmiles(line.split()[0]) for line in handle if line.strip()]
+    mols += [  # written for this test: conjugation next to S+ / Se+ and through triple bonds
+        Chem.MolFromSmiles(s)
+        for s in ("NC=[S+]C", "[O-]C=[Se+]C", "OC#N", "COC=C", "Nc1ccccc1", "OC(=O)C", "NS(=O)(=O)C")
+    ]
+    matched = 0
+    with rdBase.BlockLogs():
+        for mol in filter(None, mols):
+            molh = Chem.AddHs(mol)
+            for chain, recursion in pairs:
+                ours = molh.GetSubstructMatches(Chem.MolFromSmarts(chain), maxMatches=10**6)
+                theirs = molh.GetSubstructMatches(Chem.MolFromSmarts(recursion), maxMatches=10**6)
+                assert ours == theirs, (Chem.MolToSmiles(mol), chain)
+                matched += len(ours)
+    assert matched > 3000  # the patterns are exercised (NCI has thousands of conjugated N and O)

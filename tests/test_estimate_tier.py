@@ -204,7 +204,8 @@ def test_typing_without_the_hydrogen_copy_equals_the_typing_of_the_copy():
     """
     from ffaudit.resolve.estimate import AddedHydrogenTypes, MoleculeTypes
 
-    smiles = [line.split()[0] for line in open(NCI_5K) if line.strip()][:1000]
+    with open(NCI_5K) as handle:
+        smiles = [line.split()[0] for line in handle if line.strip()][:1000]
     smiles += ["[2H]C([2H])O", "[H][N+]([H])([H])C", "C[H:1]", "OC(=O)c1ccccc1[O-]"]
     compared = 0
     for text in smiles:

@@ -30,7 +30,8 @@ CAGES = [
 
 
 def _molecules():
-    texts = [line.split()[0] for line in open(NCI_5K) if line.strip()][:2000] + CAGES
+    with open(NCI_5K) as handle:
+        texts = [line.split()[0] for line in handle if line.strip()][:2000] + CAGES
     mols = []
     for text in texts:
         mol = Chem.MolFromSmiles(text)
