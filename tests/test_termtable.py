@@ -246,7 +246,9 @@ def test_table_answers_as_its_resolutions(case: tuple[TermTable, tuple[Resolutio
     assert tuple(table) == items and table == items and table == TermTable.of(items)
     assert table.tier_counts() == Counter((r.term.kind, r.tier) for r in items)
     # the reference's rule: the lowest score, the first in term order on ties
-    assert table.lowest() == min(items, key=lambda r: r.score, default=None)
+    lowest = min(items, key=lambda r: r.score, default=None)
+    assert table.lowest_term() == (None if lowest is None else (lowest.score, lowest.term))
+    assert table.lowest() == lowest
     for tiers in (("missing",), PROBLEM_TIERS, ("exact",), ()):
         assert table.positions(tiers) == [i for i, r in enumerate(items) if r.tier in tiers]
     plain = TermTable.of(items)

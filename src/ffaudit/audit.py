@@ -33,7 +33,7 @@ from ffaudit.resolve.driver import Resolution, Resolver
 from ffaudit.resolve.estimate import MoleculeTypes
 from ffaudit.score import RESOLVED_FROM_SET, TIERS
 from ffaudit.termdict import rounded, term_ref
-from ffaudit.terms import enumerate_terms
+from ffaudit.terms import Term, enumerate_terms
 from ffaudit.termtable import TermTable
 
 _CLASS_ID = attrgetter("class_id")
@@ -129,15 +129,20 @@ class MoleculeAudit:
         """The term that sets the molecule's score (the lowest; first in term order on ties)."""
         return self.table.lowest()
 
+    @cached_property
+    def _score_term(self) -> tuple[float, Term] | None:
+        """The score and the term of :attr:`score_resolution`, found without building its resolution."""
+        return self.table.lowest_term()
+
     @property
     def score(self) -> float | None:
-        worst = self.score_resolution
-        return None if worst is None else worst.score
+        worst = self._score_term
+        return None if worst is None else worst[0]
 
     def head(self) -> dict[str, Any]:
         """The molecule dict without its ``terms`` (which come last); a new dict at each call."""
         rec = self.record
-        worst = self.score_resolution
+        worst = self._score_term
         out: dict[str, Any] = {
             "index": rec.index,
             "source": rec.source_dict(),
@@ -145,8 +150,8 @@ class MoleculeAudit:
             "smiles": self.smiles,
             "status": self.status,
             "reason": self.reason,
-            "score": None if worst is None else worst.score,
-            "score_term": None if worst is None else term_ref(worst.term),
+            "score": None if worst is None else worst[0],
+            "score_term": None if worst is None else term_ref(worst[1]),
             "atoms": len(self.assignments),
             "fragments": self.fragments,
             "atom_classes": list(map(_CLASS_ID, self.assignments)),

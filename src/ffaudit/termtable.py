@@ -541,6 +541,29 @@ class TermTable(Sequence[Resolution]):
 
     def lowest(self) -> Resolution | None:
         """The resolution with the lowest score, the first in term order on ties; None without terms."""
+        found = self._lowest()
+        return None if found is None else self._item(found[1])
+
+    def lowest_term(self) -> tuple[float, Term] | None:
+        """The lowest score and the term that has it (the first in term order on ties), as :meth:`lowest`
+        gives them, without building that term's resolution (an estimate's provenance details); None
+        without terms."""
+        found = self._lowest()
+        if found is None:
+            return None
+        score, i = found
+        key = self._keys[i]
+        if key == OWN:
+            return score, self._own[i].term
+        atoms = self._atoms[i]
+        assert atoms is not None
+        of: SharedOutcome | SharedEstimate = (
+            self._estimated[i] if key == ESTIMATED else self._shared[key]
+        )
+        return score, Term(of.kind, atoms, of.classes, of.order, of.ring)
+
+    def _lowest(self) -> tuple[float, int] | None:
+        """The lowest score and the position of its first term; None without terms."""
         if not self._keys:
             return None
         if self._low is None:
@@ -553,7 +576,7 @@ class TermTable(Sequence[Resolution]):
         candidates = [i for i, r in others if r.score == low]
         if low_position is not None and self._shared[self._keys[low_position]].score == low:
             candidates.append(low_position)
-        return self._item(min(candidates))
+        return low, min(candidates)
 
     def positions(self, tiers: Iterable[str] | None = None) -> list[int]:
         """Term positions, in order, of the terms whose tier is in ``tiers`` (all when None)."""
