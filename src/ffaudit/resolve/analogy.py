@@ -84,6 +84,7 @@ class AnalogyFinder:
         self.classes = index.pset.class_index
         self._cost: dict[tuple[str, str], float | None] = {}
         self._donors: dict[str, dict[tuple[str, ...], list[_Donor]]] = {}
+        self._candidates: dict[tuple[str, tuple[str, ...]], list[_Donor]] = {}
 
     def _class_cost(self, a: str, b: str) -> float | None:
         key = (a, b)
@@ -101,18 +102,10 @@ class AnalogyFinder:
         there) are scored: any other costs infinity (:func:`class_cost`). They are looked up by element
         pattern and scored in the table's order, so ties go as they would over the whole table.
         """
-        by_pattern = self._donors.get(term.kind)
-        if by_pattern is None:
-            by_pattern = self._donors[term.kind] = self._index_donors(term.kind)
         wanted = tuple(self._element_key(c) for c in term.classes)
-        patterns = {
-            tuple(WILDCARD if mask >> i & 1 else key for i, key in enumerate(wanted))
-            for mask in range(1 << len(wanted))
-        }
-        found: list[_Donor] = []
-        for pattern in patterns:
-            found += by_pattern.get(pattern, ())
-        found.sort(key=lambda donor: donor[0])
+        found = self._candidates.get((term.kind, wanted))
+        if found is None:
+            found = self._candidates[term.kind, wanted] = self._compatible(term.kind, wanted)
         best: tuple[float, tuple[str, ...], AnalogyMatch] | None = None
         for _, entry, orientation in found:
             if entry.bond_order not in (None, term.bond_order) or entry.in_ring not in (
@@ -127,6 +120,23 @@ class AnalogyFinder:
             if best is None or rank < best[:2]:
                 best = (match.cost, entry.classes, match)
         return None if best is None else best[2]
+
+    def _compatible(self, kind: str, wanted: tuple[str, ...]) -> list[_Donor]:
+        """The donor orientations of ``kind`` whose element pattern agrees with ``wanted`` (the term's
+        elements) at every position or has ``*`` there, in table order (kept per kind and elements: many
+        terms share them)."""
+        by_pattern = self._donors.get(kind)
+        if by_pattern is None:
+            by_pattern = self._donors[kind] = self._index_donors(kind)
+        patterns = {
+            tuple(WILDCARD if mask >> i & 1 else key for i, key in enumerate(wanted))
+            for mask in range(1 << len(wanted))
+        }
+        found: list[_Donor] = []
+        for pattern in patterns:
+            found += by_pattern.get(pattern, ())
+        found.sort(key=lambda donor: donor[0])
+        return found
 
     def _element_key(self, class_id: str) -> str:
         """The element of ``class_id``; for a class the set does not declare, a key only the same id has

@@ -31,14 +31,21 @@ class TableIndex:
         self.has_wildcards: dict[str, bool] = {
             kind: any(e.wildcards for e in table.values()) for kind, table in self.tables.items()
         }
+        # the class tuples of each table, qualifiers left out: most tuples the tiers ask about are absent,
+        # and one set look-up tells so instead of one per qualifier combination
+        self._tuples: dict[str, frozenset[tuple[str, ...]]] = {
+            kind: frozenset(classes for classes, _, _ in table)
+            for kind, table in self.tables.items()
+        }
 
     def get(
         self, kind: str, classes: tuple[str, ...], bond_order: str | None, in_ring: bool | None
     ) -> Entry | None:
         """The entry for an already-canonical tuple, trying qualifiers from most to least specific."""
-        table = self.tables.get(kind)
-        if not table:
+        tuples = self._tuples.get(kind)
+        if tuples is None or classes not in tuples:
             return None
+        table = self.tables[kind]
         for order, ring in qualifier_variants(bond_order, in_ring):
             entry = table.get((classes, order, ring))
             if entry is not None:

@@ -8,6 +8,7 @@ canonical key wins, which is deterministic; such ties are reported by the lint c
 from __future__ import annotations
 
 import itertools
+import weakref
 from collections.abc import Iterator
 
 from ffaudit.paramset.canonical import canonical_classes
@@ -16,6 +17,34 @@ from ffaudit.resolve.index import TableIndex
 from ffaudit.terms import Term
 
 WILDCARD_POSITIONS: dict[str, tuple[int, ...]] = {"dihedral": (0, 3), "out_of_plane": (1, 2, 3)}
+_KEPT: dict[str, tuple[int, ...]] = {
+    kind: tuple(i for i in range(4) if i not in positions)  # both kinds have four atoms
+    for kind, positions in WILDCARD_POSITIONS.items()
+}
+"""The positions no wildcard pattern replaces."""
+
+_CORES: weakref.WeakKeyDictionary[TableIndex, dict[str, frozenset[tuple[str, ...]]]] = (
+    weakref.WeakKeyDictionary()
+)
+
+
+def wildcard_core(kind: str, classes: tuple[str, ...]) -> tuple[str, ...]:
+    """The classes every wildcard pattern of ``classes`` keeps (the middle pair of a dihedral, the centre
+    of an out-of-plane tuple), sorted: equal for a tuple and its canonical order, so a pattern can match an
+    entry only if their cores are equal. Empty for kinds without wildcard positions."""
+    return tuple(sorted(classes[i] for i in _KEPT.get(kind, ())))
+
+
+def _cores(index: TableIndex) -> dict[str, frozenset[tuple[str, ...]]]:
+    """The cores of each kind's entries with wildcards (made once per index)."""
+    cores = _CORES.get(index)
+    if cores is None:
+        cores = {
+            kind: frozenset(wildcard_core(kind, e.classes) for e in table.values() if e.wildcards)
+            for kind, table in index.tables.items()
+        }
+        _CORES[index] = cores
+    return cores
 
 
 def wildcard_candidates(
@@ -53,6 +82,11 @@ def match_wildcard_classes(
     bond_order: str | None,
     in_ring: bool | None,
 ) -> Entry | None:
+    """The most specific entry with wildcards matching ``classes`` (any order), or None; a tuple whose
+    core (:func:`wildcard_core`) no such entry has is answered at once."""
+    cores = _cores(index).get(kind)
+    if not cores or wildcard_core(kind, classes) not in cores:
+        return None  # no entry with wildcards keeps these classes
     for _, candidate in wildcard_candidates(kind, classes):
         entry = index.get(kind, candidate, bond_order, in_ring)
         if entry is not None:
