@@ -10,9 +10,10 @@ import itertools
 import pytest
 
 from ffaudit.paramset.canonical import canonical_classes
-from ffaudit.paramset.model import WILDCARD, Entry, FourierTerm, SourceLocation
+from ffaudit.paramset.model import WILDCARD, Entry, SourceLocation
 from ffaudit.resolve.index import TableIndex, qualifier_variants
 from ffaudit.resolve.wildcard import match_wildcard_classes, wildcard_candidates, wildcard_core
+from test_resolve import _dihedral
 
 
 def _plain_get(pset, kind, classes, order, ring):
@@ -77,38 +78,24 @@ def default_set():
     return load_parameter_set()
 
 
-def test_table_lookup_equals_the_plain_lookup(default_set):
+@pytest.mark.parametrize(
+    ("shortcut", "plain", "least_found"),
+    [
+        (lambda index, *asked: index.get(*asked), _plain_get, 100),
+        (match_wildcard_classes, _plain_wildcard, 50),
+    ],
+    ids=["table-lookup", "wildcard-tier"],
+)
+def test_shortcut_equals_the_plain_lookup(default_set, shortcut, plain, least_found):
     index = TableIndex(default_set)
     asked = _asked(default_set, 150)
     found = 0
     for kind, classes, order, ring in asked:
-        expected = _plain_get(default_set, kind, classes, order, ring)
-        assert index.get(kind, classes, order, ring) is expected, (kind, classes, order, ring)
+        expected = plain(default_set, kind, classes, order, ring)
+        assert shortcut(index, kind, classes, order, ring) is expected, (kind, classes, order, ring)
         found += expected is not None
     # both outcomes occur often (else the check would be empty)
-    assert found >= 100 and len(asked) - found >= 1000, (found, len(asked))
-
-
-def test_wildcard_tier_equals_looking_up_every_candidate(default_set):
-    index = TableIndex(default_set)
-    asked = _asked(default_set, 150)
-    found = 0
-    for kind, classes, order, ring in asked:
-        expected = _plain_wildcard(default_set, kind, classes, order, ring)
-        assert match_wildcard_classes(index, kind, classes, order, ring) is expected, classes
-        found += expected is not None
-    assert found >= 50, found
-
-
-def _dihedral(classes, line):
-    return Entry(
-        "dihedral",
-        classes,
-        "fourier",
-        {},
-        SourceLocation("hand.yaml", line),
-        fourier=(FourierTerm(3, 0.0, 0.15),),
-    )
+    assert found >= least_found and len(asked) - found >= 1000, (found, len(asked))
 
 
 def test_wildcard_core_is_the_same_for_a_tuple_and_its_reverse():
