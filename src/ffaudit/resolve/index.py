@@ -28,9 +28,6 @@ class TableIndex:
         self.parents: dict[str, tuple[str, ...]] = {
             c.id: pset.parent_chain(c.id) for c in pset.classes
         }
-        self.has_wildcards: dict[str, bool] = {
-            kind: any(e.wildcards for e in table.values()) for kind, table in self.tables.items()
-        }
         # the class tuples of each table, qualifiers left out: most tuples the tiers ask about are absent,
         # and one set look-up tells so instead of one per qualifier combination
         self._tuples: dict[str, frozenset[tuple[str, ...]]] = {

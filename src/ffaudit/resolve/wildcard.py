@@ -70,8 +70,6 @@ def wildcard_candidates(
 
 def match_wildcard(index: TableIndex, term: Term) -> Entry | None:
     """Return the most specific wildcard entry matching the term, or None."""
-    if not index.has_wildcards.get(term.kind):
-        return None
     return match_wildcard_classes(index, term.kind, term.classes, term.bond_order, term.in_ring)
 
 
