@@ -13,7 +13,7 @@ from ffaudit.paramset.canonical import canonical_classes
 from ffaudit.paramset.model import WILDCARD, Entry, SourceLocation
 from ffaudit.resolve.index import TableIndex, qualifier_variants
 from ffaudit.resolve.wildcard import match_wildcard_classes, wildcard_candidates, wildcard_core
-from test_resolve import _dihedral
+from test_resolve import _dihedral, _set
 
 
 def _plain_get(pset, kind, classes, order, ring):
@@ -78,6 +78,11 @@ def default_set():
     return load_parameter_set()
 
 
+@pytest.fixture(scope="module")
+def asked(default_set):
+    return _asked(default_set, 150)
+
+
 @pytest.mark.parametrize(
     ("shortcut", "plain", "least_found"),
     [
@@ -86,9 +91,8 @@ def default_set():
     ],
     ids=["table-lookup", "wildcard-tier"],
 )
-def test_shortcut_equals_the_plain_lookup(default_set, shortcut, plain, least_found):
+def test_shortcut_equals_the_plain_lookup(default_set, asked, shortcut, plain, least_found):
     index = TableIndex(default_set)
-    asked = _asked(default_set, 150)
     found = 0
     for kind, classes, order, ring in asked:
         expected = plain(default_set, kind, classes, order, ring)
@@ -110,22 +114,18 @@ def test_wildcard_core_is_the_same_for_a_tuple_and_its_reverse():
 def test_wildcard_entry_stored_reversed_is_still_found():
     """A dihedral entry whose canonical order reverses the term's middle pair, and an out-of-plane entry
     with outer wildcards: found by the tier as by the plain look-up."""
-    from ffaudit.paramset.model import Header, ParameterSet
-
-    entries = [
-        _dihedral(canonical_classes("dihedral", ("*", "c4", "c3", "h"))[0], 1),
-        Entry(
-            "out_of_plane",
-            ("n3", "*", "*", "o"),
-            "harmonic",
-            {"k": 1.0},
-            SourceLocation("hand.yaml", 2),
-        ),
-    ]
-    tables = {k: {} for k in ("bond", "angle", "dihedral", "out_of_plane", "nonbonded")}
-    for e in entries:
-        tables[e.kind][e.key] = e
-    pset = ParameterSet(Header("hand", "1"), {}, (), tables)
+    pset = _set(
+        [
+            _dihedral(canonical_classes("dihedral", ("*", "c4", "c3", "h"))[0], 1),
+            Entry(
+                "out_of_plane",
+                ("n3", "*", "*", "o"),
+                "harmonic",
+                {"k": 1.0},
+                SourceLocation("hand.yaml", 2),
+            ),
+        ]
+    )
     index = TableIndex(pset)
     cases = [
         ("dihedral", ("h", "c3", "c4", "o")),  # reversed relative to the entry
