@@ -42,20 +42,13 @@ from rdkit import Chem, rdBase
 
 from ffaudit.findings import DocPath, Finding, Severity
 from ffaudit.paramset.canonical import canonical_classes
-from ffaudit.paramset.model import ARITY, KINDS, TABLE_NAMES, WILDCARD
+from ffaudit.paramset.model import ARITY, KINDS, TABLE_NAMES, WILDCARD, WILDCARD_POSITIONS
 from ffaudit.paramset.yamlload import Mark, locate
 
 Marks = Mapping[DocPath, Mark]
 
 QUALIFIED_KINDS = frozenset({"bond", "dihedral", "charge_increment"})
 """Kinds whose entries may carry ``order:`` and ``ring:`` qualifiers."""
-
-WILDCARD_POSITIONS: dict[str, frozenset[int]] = {
-    "dihedral": frozenset({0, 3}),
-    "out_of_plane": frozenset({1, 2, 3}),
-}
-"""Tuple positions where ``*`` is allowed; kinds not listed allow none."""
-
 
 @dataclass(frozen=True)
 class LayerContext:
@@ -406,7 +399,7 @@ def check_wildcards(
 ) -> Iterator[Finding]:
     """``bad-wildcard``: ``*`` only at dihedral ends and at the three outer out-of-plane positions."""
     for kind in KINDS:
-        allowed = WILDCARD_POSITIONS.get(kind, frozenset())
+        allowed = WILDCARD_POSITIONS.get(kind, ())
         for i, entry in _items(doc, TABLE_NAMES[kind]):
             for j, cid in enumerate(_tuple_of(kind, entry) or ()):
                 if cid == WILDCARD and j not in allowed:

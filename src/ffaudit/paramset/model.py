@@ -67,6 +67,10 @@ ARITY: dict[str, int] = {
 WILDCARD = "*"
 """Matches any class. Allowed at dihedral ends and at the three outer positions of out-of-plane tuples."""
 
+WILDCARD_POSITIONS: dict[str, tuple[int, ...]] = {"dihedral": (0, 3), "out_of_plane": (1, 2, 3)}
+"""Tuple positions where :data:`WILDCARD` is allowed; kinds not listed allow none (the lint rule
+``bad-wildcard`` and the wildcard tier of resolution both read it)."""
+
 BOND_ORDERS: tuple[str, ...] = ("single", "double", "triple", "aromatic")
 
 

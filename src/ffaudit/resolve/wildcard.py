@@ -12,11 +12,10 @@ import weakref
 from collections.abc import Iterator
 
 from ffaudit.paramset.canonical import canonical_classes
-from ffaudit.paramset.model import WILDCARD, Entry
+from ffaudit.paramset.model import WILDCARD, WILDCARD_POSITIONS, Entry
 from ffaudit.resolve.index import TableIndex
 from ffaudit.terms import Term
 
-WILDCARD_POSITIONS: dict[str, tuple[int, ...]] = {"dihedral": (0, 3), "out_of_plane": (1, 2, 3)}
 _KEPT: dict[str, tuple[int, ...]] = {
     kind: tuple(i for i in range(4) if i not in positions)  # both kinds have four atoms
     for kind, positions in WILDCARD_POSITIONS.items()
