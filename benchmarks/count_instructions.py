@@ -7,8 +7,9 @@ machine is doing). This script counts, in fresh processes under ``valgrind --too
 - *start-up*: Python starting, ffaudit's modules imported, the embedded set loaded and compiled, and one
   trivial record audited (so the fast path's modules are imported too);
 - *audit*: the same, then the first ``--records`` records of RDKit's shipped NCI ``first_5K.smi`` audited
-  in-process through the engine's chunk function, as ``ffaudit audit`` runs them (``--terms`` as given; the
-  caches start cold, as in every worker);
+  in-process through the engine's chunk function, as ``ffaudit audit`` runs them and as
+  ``bench_library.py`` times them (its ``ffaudit_run``; ``--terms`` as given; the caches start cold, as in
+  every worker);
 
 and prints both and their difference, the audit's own count. ``--src DIR`` runs another checkout's
 ``src`` (for an A/B of two commits: ``git worktree add /tmp/old REV``, then ``--src /tmp/old/src``); both
@@ -33,27 +34,18 @@ from rdkit import RDConfig
 
 NCI = Path(RDConfig.RDDataDir) / "NCI" / "first_5K.smi"
 
-# what both child processes run; the audit child also audits AUDIT_PATH (the start-up child a one-record file)
-CHILD = """
+BENCHMARKS = Path(__file__).resolve().parent
+
+# what both child processes run (the start-up count's library is one trivial record): the audit exactly as
+# benchmarks/bench_library.py times it (its ffaudit_run), then the package it ran and the records audited
+CHILD = f"""
 import sys
+sys.path.insert(0, {str(BENCHMARKS)!r})
 from rdkit import RDLogger
 import ffaudit
-from ffaudit.audit import AuditContext
-from ffaudit.engine.base import DEFAULT_CHUNK_SIZE, ChunkOptions, audit_chunks
-from ffaudit.engine.rawsplit import plan_library
-from ffaudit.paramset.load import load_parameter_set
+from bench_library import ffaudit_run
 RDLogger.DisableLog("rdApp.*")
-path, terms = sys.argv[1], sys.argv[2]
-context = AuditContext(load_parameter_set())
-n = 0
-for result in audit_chunks(
-    context,
-    plan_library(path, chunk_size=DEFAULT_CHUNK_SIZE),
-    options=ChunkOptions(terms=terms),
-    backend="inprocess",
-    n_jobs=1,
-):
-    n += result.count
+_, n = ffaudit_run(sys.argv[1], "inprocess", 1, terms=sys.argv[2])
 print(ffaudit.__file__)
 print(n)
 """
