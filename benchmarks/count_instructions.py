@@ -13,8 +13,10 @@ machine is doing). This script counts, in fresh processes under ``valgrind --too
 
 and prints both and their difference, the audit's own count. ``--src DIR`` runs another checkout's
 ``src`` (for an A/B of two commits: ``git worktree add /tmp/old REV``, then ``--src /tmp/old/src``); both
-runs of one call use the same tree. Needs valgrind on the PATH; under callgrind the audit runs about 50
-times slower than natively (a few minutes for 5K records).
+runs of one call use the same tree. The audit's count repeats to about 0.1% between runs in a row and
+has varied by up to 2% between runs further apart (0.840 to 0.859 G for 200 records in six runs), so
+compare several runs each way before crediting a change of a few percent. Needs valgrind on the PATH;
+under callgrind the audit runs about 50 times slower than natively (a few minutes for 5K records).
 
 Usage: ``python benchmarks/count_instructions.py [--records N] [--terms all|problems|none] [--src DIR]``
 """
@@ -30,9 +32,7 @@ import sys
 import tempfile
 from pathlib import Path
 
-from rdkit import RDConfig
-
-NCI = Path(RDConfig.RDDataDir) / "NCI" / "first_5K.smi"
+from bench_library import NCI, smiles_lines
 
 BENCHMARKS = Path(__file__).resolve().parent
 
@@ -91,7 +91,7 @@ def main() -> int:
     if shutil.which("valgrind") is None:
         print("count_instructions: valgrind is not on the PATH", file=sys.stderr)
         return 2
-    lines = [line for line in NCI.read_text().splitlines() if line.strip()][: args.records]
+    lines = smiles_lines(args.records)
     with tempfile.TemporaryDirectory() as tmp:
         library = Path(tmp, "library.smi")
         library.write_text("\n".join(lines) + "\n")
