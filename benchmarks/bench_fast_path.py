@@ -31,7 +31,7 @@ import time
 from collections.abc import Callable
 from typing import Any
 
-from rdkit import Chem, RDConfig, RDLogger, rdBase
+from rdkit import Chem, RDConfig, rdBase
 from rdkit.Chem import rdForceFieldHelpers
 
 NCI = os.path.join(RDConfig.RDDataDir, "NCI", "first_5K.smi")
@@ -81,7 +81,7 @@ def measure(
     from ffaudit.paramset.load import load_parameter_set
     from ffaudit.read.open import iter_records
 
-    RDLogger.DisableLog("rdApp.*")
+    rdBase.DisableLog("rdApp.*")
     pset = load_parameter_set()
     smiles = _smiles(path, limit)
     records = list(iter_records(path))
@@ -130,17 +130,17 @@ def measure(
                 seconds = _timed(job)
                 best[name] = min(seconds, best.get(name, seconds))
     n = len(records)
-    seconds = dict(best)
-    seconds["read+fast"] = best["read"] + best["fast"]
-    seconds["read+fast_dict"] = best["read"] + best["fast_dict"]
+    totals = dict(best)
+    totals["read+fast"] = best["read"] + best["fast"]
+    totals["read+fast_dict"] = best["read"] + best["fast_dict"]
     if reference:
-        seconds["read+reference"] = best["read"] + best["reference"]
+        totals["read+reference"] = best["read"] + best["reference"]
     mmff = best["mmff"]
     return {
         "records": n,
-        "seconds": seconds,
-        "per_second": {k: n / v for k, v in seconds.items() if v > 0},
-        "ratio_to_mmff": {k: v / mmff for k, v in seconds.items()},
+        "seconds": totals,
+        "per_second": {k: n / v for k, v in totals.items() if v > 0},
+        "ratio_to_mmff": {k: v / mmff for k, v in totals.items()},
     }
 
 

@@ -41,10 +41,10 @@ BENCHMARKS = Path(__file__).resolve().parent
 CHILD = f"""
 import sys
 sys.path.insert(0, {str(BENCHMARKS)!r})
-from rdkit import RDLogger
+from rdkit import rdBase
 import ffaudit
 from bench_library import ffaudit_run
-RDLogger.DisableLog("rdApp.*")
+rdBase.DisableLog("rdApp.*")
 _, n = ffaudit_run(sys.argv[1], "inprocess", 1, terms=sys.argv[2])
 print(ffaudit.__file__)
 print(n)
